@@ -1,0 +1,590 @@
+"""Syntax nodes to a `Model`: resolve every name, check every index, reject what has no meaning.
+
+Errors raised here are `ModelMeaningError`s pointing at the offending text, with the nearest
+declared names as a hint. The model file is data: numbers become exact sympy rationals and
+names become our own sympy symbols; no user text is ever evaluated.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from fractions import Fraction
+from pathlib import Path
+from typing import Iterable
+
+import sympy
+
+from . import model as m
+from . import syntax as sx
+from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
+from .parse import parse_text
+
+# built-in objects of the Lagrangian and the number of indices each takes
+_DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
+_TENSORS = {"g": 2, "eps": 4}
+_DERIVATIVES = {"d": False, "D": True}
+_CONSTANTS = {"I": sympy.I, "pi": sympy.pi}
+_ALIASES = {"γ": "gamma", "γ5": "gamma5", "γ⁵": "gamma5", "σ": "sigma", "ε": "eps", "π": "pi",
+            "∂": "d", "i": "I", "η": "g"}
+_SCALAR_FUNCTIONS = {"sqrt": sympy.sqrt, "sin": sympy.sin, "cos": sympy.cos, "tan": sympy.tan,
+                     "exp": sympy.exp, "log": sympy.log, "re": sympy.re, "im": sympy.im}
+BUILTIN_NAMES = tuple(sorted(set(_DIRAC) | set(_TENSORS) | set(_DERIVATIVES) | set(_CONSTANTS)))
+MAX_FIELD_POWER = 12
+
+
+def load_model(path: str | Path | None = None, *, text: str | None = None, name: str | None = None) -> m.Model:
+    """Read and build a model from a file path or from text (`text=`)."""
+    if text is None:
+        if path is None:
+            raise UsageError("give a model file path or text=")
+        file = Path(path)
+        try:
+            text = file.read_text(encoding="utf-8")
+        except UnicodeDecodeError:
+            raise UsageError(f"{file}: not a UTF-8 text file", hint="save the model as plain UTF-8 text") from None
+        except OSError as exc:
+            raise UsageError(f"{file}: cannot read the model file ({exc.strerror or exc})",
+                             hint="check the path") from None
+        name = name or str(path)
+    source = Source(name or "<model>", text)
+    syntax = parse_text(text, source.name)
+    try:
+        return _Builder(syntax, source).build()
+    except ModelMeaningError as exc:
+        raise exc.with_source(source) from None
+
+
+def _fraction_to_sympy(value: Fraction | float) -> sympy.Expr:
+    if isinstance(value, Fraction):
+        return sympy.Rational(value.numerator, value.denominator)
+    return sympy.Float(value)
+
+
+class _Builder:
+    def __init__(self, syntax: sx.ModelFile, source: Source) -> None:
+        self.syntax = syntax
+        self.source = source
+        self.parameters: dict[str, m.Parameter] = {}
+        self.fields: dict[str, m.Field] = {}
+        self.groups: dict[str, m.GaugeGroup] = {}
+        self.definitions: dict[str, m.Definition] = {}
+        self.strengths: dict[str, str] = {}
+        self.declared: dict[str, tuple[str, Span]] = {}
+
+    # ------------------------------------------------------------------ declarations
+    def _declare(self, name: str, what: str, span: Span) -> None:
+        if name in self.declared:
+            earlier, where = self.declared[name]
+            raise ModelMeaningError(f"'{name}' is already declared as a {earlier} (line {where.line})", span,
+                                    "give each field, parameter, group and definition its own name")
+        if name in _DIRAC or name in _CONSTANTS or name in ("bar", "dag", "conj"):
+            raise ModelMeaningError(f"'{name}' is a built-in name of the model language", span,
+                                    f"choose another name, e.g. '{name}_1'")
+        self.declared[name] = (what, span)
+
+    def build(self) -> m.Model:
+        for p in self.syntax.parameters:
+            self._declare(p.name, "parameter", p.span)
+        for g in self.syntax.gauges:
+            self._declare(g.name, "gauge group", g.span)
+        for f in self.syntax.fields:
+            self._declare(f.name, "field", f.span)
+        for g in self.syntax.gauges:
+            if g.strength:
+                self._declare(g.strength, "field strength", self._attr_span(g, "strength"))
+                self.strengths[g.strength] = g.name
+        for d in self.syntax.definitions:
+            self._declare(d.name, "definition", d.span)
+        self._build_parameters()
+        self._build_fields()
+        self._build_groups()
+        conventions = self._build_conventions()
+        for d in self.syntax.definitions:
+            self.definitions[d.name] = self._build_definition(d)
+        terms = tuple(self._build_term(t) for t in self.syntax.terms)
+        if not terms:
+            raise ModelMeaningError("the model has no lagrangian terms", self.syntax.theory.span,
+                                    "add a 'lagrangian' section with one term per line")
+        return m.Model(self.syntax.theory.name, self.syntax.theory.description, self.parameters, self.fields,
+                       self.groups, self.definitions, terms, conventions, self.source)
+
+    def _attr_span(self, decl: sx.GaugeDecl, key: str) -> Span:
+        return dict(decl.attribute_spans).get(key, decl.span)
+
+    def _build_parameters(self) -> None:
+        # definitions may refer to parameters declared later; resolve in dependency order
+        pending = {p.name: p for p in self.syntax.parameters}
+        resolving: list[str] = []
+
+        def resolve(name: str) -> None:
+            if name in self.parameters:
+                return
+            decl = pending[name]
+            if name in resolving:
+                raise ModelMeaningError(f"parameter '{name}' is defined through itself", decl.span,
+                                        "give one of the parameters in the cycle a number")
+            resolving.append(name)
+            for used in _names_in(decl.value) if decl.value is not None else ():
+                if used in pending:
+                    resolve(used)
+            definition = self._scalar(decl.value) if decl.value is not None else None
+            resolving.pop()
+            if decl.reality == "real" and definition is not None and _certainly_complex(definition):
+                raise ModelMeaningError(f"parameter '{name}' is declared real but its value is complex",
+                                        decl.value.span if decl.value is not None else decl.span,
+                                        f"declare it as: complex {name} = ...")
+            self.parameters[name] = m.Parameter(name, decl.roles, decl.reality == "complex", definition,
+                                                None, decl.description, decl.span)
+
+        for name in pending:
+            resolve(name)
+        # now the numeric values, where every symbol of a definition has one
+        values = resolve_values_from(self.parameters, {})
+        for name, p in list(self.parameters.items()):
+            self.parameters[name] = m.Parameter(p.name, p.roles, p.is_complex, p.definition,
+                                                values.get(p.symbol), p.description, p.span)
+
+    def _build_fields(self) -> None:
+        group_names = {g.name for g in self.syntax.gauges}
+        for f in self.syntax.fields:
+            if f.kind in ("majorana", "ghost"):
+                raise ModelMeaningError(f"{f.kind} fields are not supported yet", f.span,
+                                        "use scalar, dirac or vector fields")
+            if f.kind == "dirac" and f.reality == "real":
+                raise ModelMeaningError("a Dirac fermion is always complex", f.span,
+                                        "remove 'real' (a self-conjugate fermion is a majorana field)")
+            if f.kind == "dirac" and f.reality == "complex":
+                pass
+            is_complex = f.kind == "dirac" or f.reality == "complex"
+            mass: sympy.Expr = sympy.Integer(0)
+            if isinstance(f.mass, str):
+                if f.mass not in self.parameters:
+                    raise ModelMeaningError(f"unknown mass parameter '{f.mass}'", f.mass_span or f.span,
+                                            did_you_mean(f.mass, self.parameters,
+                                                         f"declare it under parameters: mass {f.mass} = ..."))
+                mass = self.parameters[f.mass].symbol
+            elif isinstance(f.mass, Fraction):
+                if f.mass != 0:
+                    raise ModelMeaningError("a mass is a parameter name (or 0 for a massless field)",
+                                            f.mass_span or f.span, "declare it under parameters: mass mX = 5.0")
+            charges: list[tuple[str, Fraction]] = []
+            for c in f.charges:
+                if c.group not in group_names:
+                    raise ModelMeaningError(f"charge under an undeclared group '{c.group}'", c.span,
+                                            did_you_mean(c.group, group_names,
+                                                         "declare the group in the gauge section"))
+                if c.value != 0:
+                    charges.append((c.group, c.value))
+            if charges and not is_complex:
+                raise ModelMeaningError(f"the real field '{f.name}' cannot carry a charge", f.charges[0].span,
+                                        f"declare it complex: {f.kind} {f.name} complex ...")
+            for r in f.representations:
+                raise ModelMeaningError("group representations need a non-abelian group", r.span,
+                                        "U(1) fields take: charge GROUP VALUE")
+            self.fields[f.name] = m.Field(f.name, f.kind, is_complex, mass, tuple(charges), f.description, f.span)
+
+    def _build_groups(self) -> None:
+        for g in self.syntax.gauges:
+            kind = f"{g.group}({g.rank})"
+            if kind not in ("U(1)",):
+                hint = "non-abelian groups are not supported yet; write U(1)"
+                raise ModelMeaningError(f"unknown gauge group '{kind}'", self._attr_span(g, "group"), hint)
+            for key in ("boson", "strength", "coupling"):
+                if getattr(g, key) is None:
+                    raise ModelMeaningError(f"gauge group '{g.name}' needs a {key}", g.span,
+                                            f"write: {g.name} U(1) boson A strength F coupling e")
+            boson = self.fields.get(g.boson or "")
+            if boson is None or not boson.is_vector or boson.is_complex:
+                raise ModelMeaningError(f"the boson '{g.boson}' of group '{g.name}' must be a declared real vector field",
+                                        self._attr_span(g, "boson"), f"add to fields: vector {g.boson}")
+            coupling = self.parameters.get(g.coupling or "")
+            if coupling is None:
+                raise ModelMeaningError(f"unknown coupling '{g.coupling}'", self._attr_span(g, "coupling"),
+                                        did_you_mean(g.coupling or "", self.parameters,
+                                                     f"declare it under parameters: coupling {g.coupling} = ..."))
+            fixing = g.fixing or "lorenz"
+            if fixing not in ("lorenz", "none"):
+                raise ModelMeaningError(f"unknown gauge fixing '{fixing}'", self._attr_span(g, "fixing"),
+                                        "write 'fixing lorenz' (R_xi, the default) or 'fixing none'")
+            self.groups[g.name] = m.GaugeGroup(g.name, "U1", g.boson or "", g.strength or "", coupling.symbol,
+                                               fixing, g.span)
+
+    def _build_conventions(self) -> m.Conventions:
+        covariant, eps = 1, -1
+        for c in self.syntax.conventions:
+            if c.key == "covariant" and c.value in ("minus", "plus"):
+                covariant = 1 if c.value == "minus" else -1
+            elif c.key == "eps0123" and c.value in (Fraction(1), Fraction(-1)):
+                eps = int(c.value)  # type: ignore[arg-type]
+            else:
+                raise ModelMeaningError(f"unknown convention '{c.key} {c.value}'", c.span,
+                                        "write 'covariant minus' (D = d - i g Q A), 'covariant plus', "
+                                        "'eps0123 -1' or 'eps0123 +1'")
+        return m.Conventions(covariant, eps)
+
+    # ------------------------------------------------------------------ scalars
+    def _scalar(self, node: sx.Expr) -> sympy.Expr:
+        """A field-free expression as sympy; parameters become our symbols."""
+        if isinstance(node, sx.Number):
+            return _fraction_to_sympy(node.value)
+        if isinstance(node, sx.Symbol):
+            name = _ALIASES.get(node.name, node.name)
+            if node.indices:
+                raise ModelMeaningError(f"'{node.name}' takes no index here", node.indices[0].span,
+                                        "parameters and numbers carry no index")
+            if node.name in self.parameters:
+                return self.parameters[node.name].symbol
+            if node.name in self.declared and node.name not in self.parameters:
+                raise ModelMeaningError(f"a number is needed here, but '{node.name}' is a "
+                                        f"{self.declared[node.name][0]}", node.span,
+                                        "only parameters, numbers, I and pi may appear here")
+            if name in _CONSTANTS:
+                return _CONSTANTS[name]
+            if any(p.name == node.name for p in self.syntax.parameters):
+                raise ModelMeaningError(f"parameter '{node.name}' is used before its value is known", node.span)
+            raise ModelMeaningError(f"unknown name '{node.name}'", node.span,
+                                    did_you_mean(node.name, list(self.parameters) + list(_CONSTANTS),
+                                                 f"declare it under parameters: coupling {node.name} = ..."))
+        if isinstance(node, sx.Call):
+            if node.function == "conj":
+                return sympy.conjugate(self._scalar(node.argument))
+            if node.function in _SCALAR_FUNCTIONS:
+                return _SCALAR_FUNCTIONS[node.function](self._scalar(node.argument))
+            raise ModelMeaningError(f"{node.function}() needs a field, but a number is needed here", node.span,
+                                    "only sqrt, sin, cos, tan, exp, log and conj of parameters may appear here")
+        if isinstance(node, sx.Group):
+            return self._scalar(node.inner)
+        if isinstance(node, sx.Sum):
+            for _, t in node.terms:
+                if isinstance(t, sx.HermitianConjugate):
+                    raise ModelMeaningError("'h.c.' belongs in a Lagrangian term", t.span, "remove it here")
+            return sympy.Add(*[sign * self._scalar(t) for sign, t in node.terms])
+        if isinstance(node, sx.Product):
+            return sympy.Mul(*[self._scalar(f) for f in node.factors])
+        if isinstance(node, sx.Quotient):
+            denominator = self._scalar(node.denominator)
+            if denominator == 0:
+                raise ModelMeaningError("division by zero", node.denominator.span, "")
+            return self._scalar(node.numerator) / denominator
+        if isinstance(node, sx.Power):
+            return self._scalar(node.base) ** self._scalar(node.exponent)
+        if isinstance(node, sx.HermitianConjugate):
+            raise ModelMeaningError("'h.c.' belongs in a Lagrangian term", node.span, "remove it here")
+        raise ModelMeaningError("a number is needed here", _span_of(node))
+
+    # ------------------------------------------------------------------ Lagrangian
+    def _build_definition(self, d: sx.Definition) -> m.Definition:
+        body = self._node(d.body)
+        free = self._free_indices(d.body)
+        declared = [i.name for i in d.indices]
+        if len(set(declared)) != len(declared):
+            raise ModelMeaningError(f"definition '{d.name}' repeats an index", d.span, "give each index its own name")
+        for index, count in free.items():
+            if index not in declared:
+                raise ModelMeaningError(f"index '{index}' is left free in definition '{d.name}'",
+                                        self._index_span(d.body, index) or d.span,
+                                        f"contract it, or list it: {d.name}[{', '.join(declared + [index])}] = ...")
+        for index in declared:
+            if index not in free:
+                raise ModelMeaningError(f"index '{index}' of '{d.name}' does not appear free in its body",
+                                        d.span, "every listed index must appear once in the body")
+        return m.Definition(d.name, tuple(declared), body, d.span)
+
+    def _build_term(self, t: sx.LagrangianTerm) -> m.Term:
+        node = self._node(t.expr, top=True)
+        free = self._free_indices(t.expr)
+        if free:
+            index = sorted(free)[0]
+            raise ModelMeaningError(f"Lorentz index '{index}' is left free", self._index_span(t.expr, index) or t.span,
+                                    f"every index in a term appears exactly twice; contract '{index}' "
+                                    "with another factor")
+        if not self._has_field(t.expr):
+            raise ModelMeaningError("this term contains no field", t.span,
+                                    "a Lagrangian term multiplies fields; constants are dropped by the physics")
+        return m.Term(node, t.span)
+
+    def _has_field(self, node: sx.Expr) -> bool:
+        for s in _walk(node):
+            if isinstance(s, sx.Symbol) and (s.name in self.fields or s.name in self.strengths
+                                             or s.name in self.definitions):
+                return True
+        return False
+
+    def _is_scalar(self, node: sx.Expr) -> bool:
+        """True when a node has no field, no Dirac matrix, no tensor and no derivative."""
+        for s in _walk(node):
+            if isinstance(s, sx.Symbol):
+                name = _ALIASES.get(s.name, s.name)
+                if s.name in self.parameters and not s.indices:
+                    continue
+                if name in _CONSTANTS and s.name not in self.declared:
+                    continue
+                return False
+            if isinstance(s, sx.Call) and s.function in ("bar", "dag"):
+                return False
+            if isinstance(s, sx.HermitianConjugate):
+                return False
+        return True
+
+    def _node(self, node: sx.Expr, top: bool = False) -> m.LNode:
+        if self._is_scalar(node):
+            return m.LScalar(self._scalar(node), _span_of(node))
+        if isinstance(node, sx.Symbol):
+            return self._symbol(node)
+        if isinstance(node, sx.Call):
+            return self._call(node)
+        if isinstance(node, sx.Group):
+            return self._node(node.inner)
+        if isinstance(node, sx.Sum):
+            terms: list[tuple[int, m.LNode]] = []
+            has_hc = False
+            for sign, t in node.terms:
+                if isinstance(t, sx.HermitianConjugate):
+                    if sign < 0:
+                        raise ModelMeaningError("'- h.c.' is unusual and probably a typo", t.span,
+                                                "write '+ h.c.'; to subtract the conjugate write it out")
+                    if has_hc:
+                        raise ModelMeaningError("'h.c.' appears twice in one sum", t.span, "keep one '+ h.c.'")
+                    has_hc = True
+                    continue
+                terms.append((sign, self._node(t)))
+            if has_hc and not terms:
+                raise ModelMeaningError("'+ h.c.' has nothing to conjugate on its own line", node.span,
+                                        "write '+ h.c.' at the end of the term it conjugates")
+            return m.LSum(tuple(terms), has_hc, node.span)
+        if isinstance(node, sx.HermitianConjugate):
+            raise ModelMeaningError("'h.c.' stands alone", node.span,
+                                    "write '+ h.c.' at the end of the term it conjugates")
+        if isinstance(node, sx.Product):
+            return m.LProduct(tuple(self._node(f) for f in node.factors), node.span)
+        if isinstance(node, sx.Quotient):
+            if not self._is_scalar(node.denominator):
+                raise ModelMeaningError("a field in a denominator has no Feynman rule", node.denominator.span,
+                                        "divide by parameters and numbers only")
+            return m.LProduct((self._node(node.numerator),
+                               m.LScalar(1 / self._scalar(node.denominator), node.denominator.span)), node.span)
+        if isinstance(node, sx.Power):
+            exponent = node.exponent
+            if not isinstance(exponent, sx.Number) or not exponent.text.isdigit():
+                raise ModelMeaningError("a power of a field needs a positive whole exponent", _span_of(exponent),
+                                        "write e.g. phi^4")
+            n = int(exponent.text)
+            if n < 1 or n > MAX_FIELD_POWER:
+                raise ModelMeaningError(f"field powers from 1 to {MAX_FIELD_POWER} are supported", exponent.span,
+                                        f"write a power between 1 and {MAX_FIELD_POWER}")
+            if self._free_indices(node.base):
+                raise ModelMeaningError("the power of an expression with a free index is ambiguous", node.span,
+                                        "write the factors out and contract their indices")
+            return m.LPower(self._node(node.base), n, node.span)
+        raise ModelMeaningError("cannot read this expression", _span_of(node))
+
+    def _check_index_count(self, node: sx.Symbol, expected: int, what: str, example: str) -> None:
+        if len(node.indices) != expected:
+            if expected == 0:
+                raise ModelMeaningError(f"{what} has no Lorentz index", node.indices[0].span,
+                                        f"write {example}")
+            span = node.indices[0].span if node.indices else node.span
+            raise ModelMeaningError(f"{what} takes {expected} Lorentz ind{'ex' if expected == 1 else 'ices'}, "
+                                    f"not {len(node.indices)}", span, f"write {example}")
+
+    def _symbol(self, node: sx.Symbol) -> m.LNode:
+        name = node.name
+        idx = tuple(i.name for i in node.indices)
+        if name in self.fields:
+            f = self.fields[name]
+            if f.is_vector:
+                self._check_index_count(node, 1, f"the vector field '{name}'", f"{name}[mu]")
+                return m.LField(name, False, idx[0], node.span)
+            self._check_index_count(node, 0, f"the {f.kind} field '{name}'", name)
+            return m.LField(name, False, None, node.span)
+        if name in self.strengths:
+            self._check_index_count(node, 2, f"the field strength '{name}'", f"{name}[mu,nu]")
+            return m.LStrength(self.strengths[name], (idx[0], idx[1]), node.span)
+        if name in self.definitions:
+            d = self.definitions[name]
+            if len(idx) != len(d.indices):
+                raise ModelMeaningError(f"definition '{name}' takes {len(d.indices)} indices, not {len(idx)}",
+                                        node.span, f"write {name}[{', '.join(d.indices)}]" if d.indices else name)
+            return m.LDefinitionUse(name, idx, node.span)
+        if name in self.declared and not idx:
+            what = self.declared[name][0]
+            if name in self.definitions or what == "definition":
+                raise ModelMeaningError(f"definition '{name}' is used before it is defined", node.span,
+                                        "move the definition above its first use")
+            raise ModelMeaningError(f"the {what} '{name}' cannot appear in the Lagrangian", node.span,
+                                    "use fields, parameters and built-in objects")
+        builtin = _ALIASES.get(name, name)
+        if builtin in _DIRAC:
+            n = _DIRAC[builtin]
+            examples = {0: builtin, 1: "gamma[mu]", 2: "sigma[mu,nu]"}
+            self._check_index_count(node, n, f"'{name}'", examples[n])
+            return m.LDirac(builtin, idx, node.span)
+        if builtin in _TENSORS:
+            n = _TENSORS[builtin]
+            self._check_index_count(node, n, f"'{name}'", "g[mu,nu]" if n == 2 else "eps[mu,nu,rho,sigma]")
+            if len(set(idx)) != len(idx):
+                if builtin == "eps":
+                    raise ModelMeaningError("eps with a repeated index is zero", node.span,
+                                            "use four different indices")
+            return m.LTensor(builtin, idx, node.span)
+        if builtin in _DERIVATIVES:
+            self._check_index_count(node, 1, f"the derivative '{name}'", f"{name}[mu]")
+            if _DERIVATIVES[builtin] and not self.groups:
+                raise ModelMeaningError("D[mu] needs a gauge group", node.span,
+                                        "declare a group in the gauge section, or write d[mu]")
+            return m.LDerivative(idx[0], _DERIVATIVES[builtin], node.span)
+        if name in self.parameters:
+            raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
+                                    f"write {name} without brackets")
+        candidates = list(self.fields) + list(self.parameters) + list(self.definitions) + \
+            list(self.strengths) + list(_DIRAC) + list(_TENSORS) + list(_DERIVATIVES)
+        raise ModelMeaningError(f"unknown name '{name}'", node.span,
+                                did_you_mean(name, candidates, "declare it as a field or a parameter"))
+
+    def _call(self, node: sx.Call) -> m.LNode:
+        arg = node.argument
+        while isinstance(arg, sx.Group):
+            arg = arg.inner
+        if node.function == "bar":
+            if not isinstance(arg, sx.Symbol) or arg.name not in self.fields:
+                raise ModelMeaningError("bar() takes one fermion field", node.span, "write bar(psi)")
+            f = self.fields[arg.name]
+            if not f.is_fermion:
+                raise ModelMeaningError(f"bar() of the {f.kind} '{f.name}': only fermions have a Dirac adjoint",
+                                        node.span, f"for a boson write dag({f.name})" if f.is_complex
+                                        else f"'{f.name}' is real: write {f.name}")
+            self._check_index_count(arg, 0, f"the fermion '{f.name}'", f"bar({f.name})")
+            return m.LField(f.name, True, None, node.span)
+        if node.function == "dag":
+            if isinstance(arg, sx.Symbol) and arg.name in self.fields:
+                f = self.fields[arg.name]
+                if f.is_fermion:
+                    raise ModelMeaningError(f"dag() of the fermion '{f.name}'", node.span,
+                                            f"in a Lorentz-invariant term write bar({f.name})")
+                if not f.is_complex:
+                    raise ModelMeaningError(f"dag() of the real field '{f.name}' is the field itself", node.span,
+                                            f"write {f.name}, or declare it complex")
+                inner = self._symbol(arg)
+                assert isinstance(inner, m.LField)
+                return m.LField(f.name, True, inner.index, node.span)
+            for s in _walk(arg):
+                if isinstance(s, sx.Call) and s.function == "bar":
+                    raise ModelMeaningError("dag() of an expression with a fermion", node.span,
+                                            "write the conjugate out with bar(), or use '+ h.c.'")
+            return m.LDagger(self._node(arg), node.span)
+        if node.function == "conj":
+            raise ModelMeaningError("conj() takes a complex parameter, not a field", node.span,
+                                    "for a field write dag(...) or bar(...)")
+        raise ModelMeaningError(f"{node.function}() of a field has no Feynman rule", node.span,
+                                f"{node.function}() takes parameters and numbers only")
+
+    # ------------------------------------------------------------------ indices
+    def _free_indices(self, node: sx.Expr) -> Counter[str]:
+        """Free Lorentz indices of a node; raises on an index used more than twice."""
+        if isinstance(node, sx.Symbol):
+            if node.name in self.parameters:
+                return Counter()
+            names = [i.name for i in node.indices]
+            counts = Counter(names)
+            if _ALIASES.get(node.name, node.name) in ("g", "sigma", "eps") or node.name in self.strengths:
+                # a repeated index inside one object contracts it with itself
+                return Counter({k: 1 for k, v in counts.items() if v == 1})
+            return Counter({k: 1 for k, v in counts.items() if v == 1})
+        if isinstance(node, sx.Call):
+            return self._free_indices(node.argument)
+        if isinstance(node, sx.Group):
+            return self._free_indices(node.inner)
+        if isinstance(node, sx.Sum):
+            result: Counter[str] | None = None
+            for _, t in node.terms:
+                if isinstance(t, sx.HermitianConjugate):
+                    continue
+                free = self._free_indices(t)
+                if result is None:
+                    result = free
+                elif set(free) != set(result):
+                    extra = sorted(set(free) ^ set(result))
+                    raise ModelMeaningError(f"the summands carry different free indices ({', '.join(extra)})",
+                                            _span_of(t), "every summand of a sum needs the same free indices")
+            return result or Counter()
+        if isinstance(node, sx.Product):
+            seen: Counter[str] = Counter()
+            for factor in node.factors:
+                for index in self._free_indices(factor):
+                    seen[index] += 1
+                    if seen[index] > 2:
+                        raise ModelMeaningError(f"Lorentz index '{index}' is used more than twice",
+                                                self._index_span(factor, index) or _span_of(factor),
+                                                "rename one pair of the repeated indices")
+            return Counter({k: 1 for k, v in seen.items() if v == 1})
+        if isinstance(node, sx.Quotient):
+            return self._free_indices(node.numerator)
+        if isinstance(node, sx.Power):
+            return self._free_indices(node.base)
+        return Counter()
+
+    def _index_span(self, node: sx.Expr, index: str) -> Span | None:
+        for s in _walk(node):
+            if isinstance(s, sx.Symbol):
+                for i in s.indices:
+                    if i.name == index:
+                        return i.span
+        return None
+
+
+def _span_of(node: sx.Expr) -> Span:
+    return getattr(node, "span", Span(0, 0, 0, 0))
+
+
+def _walk(node: sx.Expr) -> Iterable[sx.Expr]:
+    yield node
+    if isinstance(node, (sx.Call,)):
+        yield from _walk(node.argument)
+    elif isinstance(node, sx.Group):
+        yield from _walk(node.inner)
+    elif isinstance(node, sx.Sum):
+        for _, t in node.terms:
+            yield from _walk(t)
+    elif isinstance(node, sx.Product):
+        for f in node.factors:
+            yield from _walk(f)
+    elif isinstance(node, sx.Quotient):
+        yield from _walk(node.numerator)
+        yield from _walk(node.denominator)
+    elif isinstance(node, sx.Power):
+        yield from _walk(node.base)
+        yield from _walk(node.exponent)
+
+
+def _names_in(node: sx.Expr) -> set[str]:
+    return {s.name for s in _walk(node) if isinstance(s, sx.Symbol)}
+
+
+def _certainly_complex(expr: sympy.Expr) -> bool:
+    return bool(expr.free_symbols == set() and expr.is_real is False)
+
+
+def resolve_values_from(parameters: dict[str, m.Parameter],
+                        overrides: dict[str, complex]) -> dict[sympy.Symbol, complex]:
+    """Numeric values for every parameter that has one, definitions evaluated in order."""
+    values: dict[sympy.Symbol, complex] = {}
+    for name, value in overrides.items():
+        if name not in parameters:
+            raise UsageError(f"unknown parameter '{name}' in values",
+                             hint=did_you_mean(name, parameters, "use the model's parameter names"))
+        values[parameters[name].symbol] = complex(value)
+    changed = True
+    while changed:
+        changed = False
+        for p in parameters.values():
+            if p.symbol in values or p.definition is None:
+                continue
+            if p.definition.free_symbols <= set(values):
+                number = complex(p.definition.subs(values).evalf())
+                values[p.symbol] = number
+                changed = True
+    return values
+
+
+def resolve_values(model: m.Model, overrides: dict[str, complex]) -> dict[sympy.Symbol, complex]:
+    return resolve_values_from(model.parameters, overrides)

@@ -1,0 +1,461 @@
+"""Feynman rules from monomials: vertices by functional differentiation, propagators by inversion.
+
+Vertex = i x sum over assignments of the monomial's fields to the legs. Identical bosonic
+fields without derivatives or indices are interchangeable, so k of them contribute k! at once
+(multiset combinatorics); fields that differ by a derivative, an index or Grassmann order are
+enumerated. A derivative on the field of leg k gives -i p_k. The Grassmann sign is the parity of
+the permutation that brings the monomial's fermion factors into leg order.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from collections import defaultdict
+from fractions import Fraction
+from typing import Iterable, Iterator
+
+import sympy
+
+from . import model as m
+from .errors import DerivationError, Span, UsageError
+from .expand import DiracAtom, FieldAtom, Monomial, TensorAtom, expand_model
+from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, LegIndex, Metric, Momentum, Sigma, Slot,
+                         Structure, Vector, canonical_structure, momentum_slots, replace_slot,
+                         structure_sort_key)
+
+GAUGES = ("xi", "feynman", "unitary")
+Species = tuple[str, bool]
+
+
+def species_of(model: m.Model, atom: FieldAtom) -> Species:
+    """Which leg a field factor can fill: (field, conjugated); real fields are never conjugated."""
+    f = model.fields[atom.field]
+    return (atom.field, atom.conjugate if f.is_complex else False)
+
+
+def _species_order(model: m.Model, s: Species) -> tuple:
+    f = model.fields[s[0]]
+    kind = {"dirac": 0, "majorana": 0, "scalar": 1, "vector": 2, "ghost": 3}[f.kind]
+    return (kind, s[0], s[1])
+
+
+def canonical_legs(model: m.Model, species: Iterable[Species]) -> list[Species]:
+    """Leg order: fermion lines (bar leg, then its partner), then scalars, vectors; by name."""
+    items = sorted(species, key=lambda s: _species_order(model, s))
+    fermions = [s for s in items if model.fields[s[0]].is_fermion]
+    bosons = [s for s in items if not model.fields[s[0]].is_fermion]
+    bars = [s for s in fermions if s[1]]
+    plain = [s for s in fermions if not s[1]]
+    ordered: list[Species] = []
+    for b in bars:
+        ordered.append(b)
+        partner = next((s for s in plain if s[0] == b[0]), plain[0] if plain else None)
+        if partner is not None:
+            plain.remove(partner)
+            ordered.append(partner)
+    return ordered + plain + bosons
+
+
+def make_legs(model: m.Model, species: list[Species]) -> tuple[Leg, ...]:
+    return tuple(Leg(k + 1, s[0], s[1], model.fields[s[0]].kind, model.fields[s[0]].is_grassmann)
+                 for k, s in enumerate(species))
+
+
+# ------------------------------------------------------------------ one monomial, one leg list
+
+def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Iterator[tuple[dict[int, int], int]]:
+    """(atom position -> leg position, multiplicity) for every distinct assignment."""
+    by_species: dict[Species, list[int]] = defaultdict(list)
+    for k, atom in enumerate(mono.atoms):
+        if isinstance(atom, FieldAtom):
+            by_species[species_of(model, atom)].append(k)
+    legs_of: dict[Species, list[int]] = defaultdict(list)
+    for leg in legs:
+        legs_of[(leg.field, leg.conjugate)].append(leg.position)
+    per_species: list[list[tuple[dict[int, int], int]]] = []
+    for sp, positions in by_species.items():
+        targets = legs_of[sp]
+        grassmann = model.fields[sp[0]].is_grassmann
+        if grassmann:
+            options = [(dict(zip(positions, perm)), 1) for perm in itertools.permutations(targets)]
+        else:
+            decorated = [k for k in positions
+                         if mono.atoms[k].index is not None or mono.atoms[k].derivatives]  # type: ignore[union-attr]
+            plain = [k for k in positions if k not in decorated]
+            options = []
+            for chosen in itertools.permutations(targets, len(decorated)):
+                rest = [t for t in targets if t not in chosen]
+                mapping = dict(zip(decorated, chosen))
+                mapping.update(zip(plain, rest))
+                options.append((mapping, math.factorial(len(plain))))
+        per_species.append(options)
+    for combo in itertools.product(*per_species):
+        mapping: dict[int, int] = {}
+        multiplicity = 1
+        for part, mult in combo:
+            mapping.update(part)
+            multiplicity *= mult
+        yield mapping, multiplicity
+
+
+def _grassmann_sign(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> int:
+    order = [mapping[k] for k, a in enumerate(mono.atoms)
+             if isinstance(a, FieldAtom) and model.fields[a.field].is_grassmann]
+    sign = 1
+    for i in range(len(order)):
+        for j in range(i + 1, len(order)):
+            if order[i] > order[j]:
+                sign = -sign
+    return sign
+
+
+class _UnionFind:
+    def __init__(self) -> None:
+        self.parent: dict[str, str] = {}
+
+    def find(self, x: str) -> str:
+        self.parent.setdefault(x, x)
+        while self.parent[x] != x:
+            self.parent[x] = self.parent[self.parent[x]]
+            x = self.parent[x]
+        return x
+
+    def union(self, a: str, b: str) -> None:
+        ra, rb = self.find(a), self.find(b)
+        if ra != rb:
+            self.parent[max(ra, rb)] = min(ra, rb)
+
+
+def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple[sympy.Expr, Structure | None]:
+    """Contract the indices of one assignment into a structure; returns (extra factor, structure)."""
+    factor: sympy.Expr = sympy.Integer(1)
+    # an end of an index line: ("leg", leg) / ("mom", leg) / ("slot", atom position, slot number)
+    ends: dict[str, list[tuple]] = defaultdict(list)
+    uf = _UnionFind()
+    for k, atom in enumerate(mono.atoms):
+        if isinstance(atom, FieldAtom):
+            leg = mapping[k]
+            if atom.index is not None:
+                ends[atom.index].append(("leg", leg))
+            for d in atom.derivatives:
+                factor *= -sympy.I
+                ends[d].append(("mom", leg))
+        elif isinstance(atom, TensorAtom) and atom.kind == "g":
+            a, b = atom.indices
+            if a == b:
+                factor *= 4
+            else:
+                uf.union(a, b)
+        else:
+            for n, index in enumerate(atom.indices):
+                ends[index].append(("slot", k, n))
+    lines: dict[str, list[tuple]] = defaultdict(list)
+    for index, items in ends.items():
+        lines[uf.find(index)].extend(items)
+    for root in set(uf.parent.values()) - set(lines):
+        factor *= 4  # a closed loop of metrics: g^mu_mu = 4
+    fill: dict[tuple[int, int], Slot] = {}
+    tensors: list = []
+    for root, items in sorted(lines.items()):
+        if len(items) != 2:
+            raise DerivationError(f"index '{root.split('#')[0]}' appears {len(items)} times in a monomial",
+                                  mono.origin, "every Lorentz index in a term appears exactly twice")
+        (k1, *r1), (k2, *r2) = items
+        providers = [it for it in items if it[0] in ("leg", "mom")]
+        slots = [it for it in items if it[0] == "slot"]
+        values = [LegIndex(it[1]) if it[0] == "leg" else Momentum.of(it[1]) for it in providers]
+        if len(providers) == 2:
+            a, b = values
+            if isinstance(a, LegIndex) and isinstance(b, LegIndex):
+                tensors.append(Metric(a, b))
+            elif isinstance(a, Momentum) and isinstance(b, Momentum):
+                tensors.append(Dot(a, b))
+            else:
+                mom = a if isinstance(a, Momentum) else b
+                idx = b if isinstance(a, Momentum) else a
+                tensors.append(Vector(mom, idx))  # type: ignore[arg-type]
+        elif len(providers) == 1:
+            fill[(slots[0][1], slots[0][2])] = values[0]
+        else:
+            dummy = Dummy(root)
+            for it in slots:
+                fill[(it[1], it[2])] = dummy
+    chains: list[Chain] = []
+    open_bar: int | None = None
+    matrices: list = []
+    for k, atom in enumerate(mono.atoms):
+        if isinstance(atom, TensorAtom):
+            if atom.kind == "eps":
+                tensors.append(Epsilon(tuple(fill[(k, n)] for n in range(4))))  # type: ignore[arg-type]
+        elif isinstance(atom, DiracAtom):
+            slots_ = tuple(fill[(k, n)] for n in range(len(atom.indices)))
+            if atom.kind == "gamma":
+                matrices.append(Gamma(slots_[0]))
+            elif atom.kind == "sigma":
+                matrices.append(Sigma(slots_[0], slots_[1]))
+            else:
+                matrices.append(Chiral(atom.kind))
+        elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
+            if atom.conjugate:
+                open_bar = mapping[k]
+                matrices = []
+            else:
+                assert open_bar is not None
+                chains.append(Chain(open_bar, mapping[k], tuple(matrices)))
+                open_bar = None
+    sign, structure = canonical_structure(Structure(tuple(tensors), tuple(chains)))
+    return factor * sign, structure
+
+
+def check_chains(model: m.Model, mono: Monomial) -> None:
+    """Fermion fields pair up as bar(a) [Dirac matrices] b; Dirac matrices only inside such a pair."""
+    open_atom: FieldAtom | None = None
+    for atom in mono.atoms:
+        if isinstance(atom, DiracAtom):
+            if open_atom is None:
+                raise DerivationError(f"'{atom.kind}' stands outside a fermion bilinear", atom.span,
+                                      "write Dirac matrices between bar(psi) and psi, e.g. bar(psi) gamma[mu] psi")
+        elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
+            if atom.conjugate:
+                if open_atom is not None:
+                    raise DerivationError("a fermion bilinear opens twice before it closes", atom.span,
+                                          "write bar(a) ... b, each bar() followed by its partner field")
+                open_atom = atom
+            else:
+                if open_atom is None:
+                    raise DerivationError(f"the fermion '{atom.field}' has no bar() partner before it", atom.span,
+                                          f"write bar(...) before {atom.field}, as in bar(psi) psi")
+                open_atom = None
+    if open_atom is not None:
+        raise DerivationError(f"bar({open_atom.field}) has no fermion after it", open_atom.span,
+                              "close the bilinear with a fermion field, as in bar(psi) psi")
+
+
+def monomial_terms(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> list[tuple[sympy.Expr, Structure]]:
+    """i x (functional derivative) of one monomial, as (coefficient, structure) pairs."""
+    out: list[tuple[sympy.Expr, Structure]] = []
+    for mapping, multiplicity in _assignments(model, mono, legs):
+        sign = _grassmann_sign(model, mono, mapping)
+        factor, structure = _structure(model, mono, mapping)
+        if structure is None or factor == 0:
+            continue
+        out.append((sympy.I * mono.coefficient * sign * multiplicity * factor, structure))
+    return out
+
+
+# ------------------------------------------------------------------ collecting terms
+
+def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.Expr, Structure]]:
+    total: dict[Structure, sympy.Expr] = {}
+    for coefficient, structure in pairs:
+        total[structure] = total.get(structure, sympy.Integer(0)) + coefficient
+    out = []
+    for structure, coefficient in total.items():
+        c = sympy.factor(sympy.expand(coefficient))
+        if c != 0:
+            out.append((c, structure))
+    return out
+
+
+def _merge_momenta(terms: list[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.Expr, Structure]]:
+    """Join terms that differ only in one momentum slot by a numerical factor: c p1 - c p2 -> c (p1 - p2)."""
+    terms = sorted(terms, key=lambda t: structure_sort_key(t[1]))
+    changed = True
+    while changed:
+        changed = False
+        buckets: dict[tuple, list[int]] = defaultdict(list)
+        for n, (_, structure) in enumerate(terms):
+            for position in momentum_slots(structure):
+                skeleton = replace_slot(structure, position, Dummy("?"))
+                buckets[(position, skeleton)].append(n)
+        for (position, _), members in sorted(buckets.items(), key=lambda kv: (kv[0][0], kv[1])):
+            if len(members) < 2:
+                continue
+            i, j = members[0], members[1]
+            ci, si = terms[i]
+            cj, sj = terms[j]
+            ratio = sympy.simplify(cj / ci)
+            if not ratio.is_Rational:
+                continue
+            pi = si.slots()[position]
+            pj = sj.slots()[position]
+            assert isinstance(pi, Momentum) and isinstance(pj, Momentum)
+            merged = pi.plus(pj, Fraction(int(ratio.p), int(ratio.q)))
+            if not merged.terms:
+                terms = [t for n, t in enumerate(terms) if n not in (i, j)]
+            else:
+                lead = merged.terms[0][1]
+                scale = Fraction(1) if lead > 0 else Fraction(-1)
+                merged = Momentum(tuple((leg, c * scale) for leg, c in merged.terms))
+                structure = replace_slot(si, position, merged)
+                sign, canonical = canonical_structure(structure)
+                assert canonical is not None
+                new = (ci * scale.numerator * sign, canonical)
+                terms = [t for n, t in enumerate(terms) if n not in (i, j)] + [new]
+            terms = sorted(terms, key=lambda t: structure_sort_key(t[1]))
+            changed = True
+            break
+    return terms
+
+
+def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial]) -> Vertex | None:
+    legs = make_legs(model, canonical_legs(model, species))
+    pairs: list[tuple[sympy.Expr, Structure]] = []
+    for mono in monomials:
+        pairs.extend(monomial_terms(model, mono, legs))
+    collected = _collect(pairs)
+    if not collected:
+        return None
+    merged = _merge_momenta(collected)
+    terms = tuple(VertexTerm(c, s) for c, s in sorted(merged, key=lambda t: structure_sort_key(t[1])))
+    origins = tuple(sorted({mono.origin.line for mono in monomials}))
+    return Vertex(legs, terms, model, origins)
+
+
+# ------------------------------------------------------------------ propagators
+
+def _gauge_fixing(model: m.Model, group: m.GaugeGroup, gauge: str) -> list[Monomial]:
+    """-1/(2 xi) (d.A)^2 for a group with Lorenz-type R_xi gauge fixing."""
+    boson = model.fields[group.boson]
+    if group.fixing != "lorenz":
+        return []
+    if gauge == "unitary" and boson.mass != 0:
+        return []
+    xi = group.xi if gauge == "xi" else sympy.Integer(1)
+    atoms = (FieldAtom(group.boson, False, "gf1", ("gf1",), group.span),
+             FieldAtom(group.boson, False, "gf2", ("gf2",), group.span))
+    return [Monomial(-1 / (2 * xi), atoms, group.span)]
+
+
+def _two_point(model: m.Model, species: list[Species], monomials: list[Monomial]) -> tuple[Leg, ...] | None:
+    return make_legs(model, species)
+
+
+def _substitute_p(structure: Structure, legs: tuple[Leg, ...]) -> dict[str, sympy.Expr]:
+    """Structure with p(leg 1) = -p, p(leg 2) = p: returns the kind of term and its value."""
+    def sign(mom: Momentum) -> sympy.Expr:
+        return sympy.Add(*[(-1 if leg == 1 else 1) * sympy.Rational(c.numerator, c.denominator)
+                           for leg, c in mom.terms])
+    return {"sign": sympy.Integer(1)} if not structure else {"sign": sign}  # pragma: no cover
+
+
+def _momentum_sign(mom: Momentum) -> sympy.Expr:
+    """With p(leg 1) = -p and p(leg 2) = +p, a combination sum c_k p_k equals (this) x p."""
+    return sympy.Add(*[(-1 if leg == 1 else 1) * sympy.Rational(c.numerator, c.denominator) for leg, c in mom.terms])
+
+
+def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge: str) -> Propagator:
+    conjugate = f.is_complex
+    species = [(f.name, True), (f.name, False)] if conjugate else [(f.name, False), (f.name, False)]
+    legs = make_legs(model, species)
+    pairs: list[tuple[sympy.Expr, Structure]] = []
+    for mono in monomials:
+        pairs.extend(monomial_terms(model, mono, legs))
+    kernel: dict[str, sympy.Expr] = defaultdict(lambda: sympy.Integer(0))  # Gamma_2 / i
+    for coefficient, structure in pairs:
+        c = coefficient / sympy.I
+        value = c
+        key = "one"
+        for t in structure.tensors:
+            if isinstance(t, Dot):
+                value *= _momentum_sign(t.p) * _momentum_sign(t.q) * P2
+            elif isinstance(t, Metric):
+                key = "metric"
+            elif isinstance(t, Vector):
+                value *= _momentum_sign(t.momentum)
+                key = "pp" if key in ("one", "pp") else key
+            else:
+                raise DerivationError(f"the quadratic terms of '{f.name}' contain an epsilon tensor", f.span,
+                                      "parity-odd kinetic terms are not supported")
+        for chain in structure.chains:
+            chiral = [mat for mat in chain.matrices if isinstance(mat, Chiral)]
+            if chiral or any(isinstance(mat, Sigma) for mat in chain.matrices):
+                raise DerivationError(f"the quadratic terms of '{f.name}' are chiral (gamma5, PL or PR)", f.span,
+                                      "write Dirac kinetic and mass terms as bar(psi) (I gamma[mu] d[mu] - m) psi")
+            slashes = [mat for mat in chain.matrices if isinstance(mat, Gamma)]
+            if len(slashes) == 1 and isinstance(slashes[0].slot, Momentum):
+                value *= _momentum_sign(slashes[0].slot)
+                key = "slash"
+            elif slashes:
+                raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", f.span)
+        if f.is_vector and key == "one" and not structure.tensors:
+            raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", f.span)
+        if sum(isinstance(t, Vector) for t in structure.tensors) == 2:
+            key = "pp"
+        kernel[key] += value
+    kernel = {k: sympy.factor(sympy.expand(v)) for k, v in kernel.items()}
+    if f.kind == "scalar":
+        k = kernel.get("one", sympy.Integer(0))
+        if k == 0:
+            raise _no_kernel(f)
+        return Propagator(f.name, "scalar", sympy.factor(sympy.I / k), sympy.Integer(0), gauge, model)
+    if f.is_fermion:
+        a, b = kernel.get("slash", sympy.Integer(0)), kernel.get("one", sympy.Integer(0))
+        denominator = sympy.factor(a**2 * P2 - b**2)
+        if denominator == 0:
+            raise _no_kernel(f)
+        # (a pslash + b)^-1 = (a pslash - b) / (a^2 p^2 - b^2)
+        return Propagator(f.name, "dirac", sympy.factor(sympy.I * a / denominator),
+                          sympy.factor(-sympy.I * b / denominator), gauge, model)
+    a, b = kernel.get("metric", sympy.Integer(0)), kernel.get("pp", sympy.Integer(0))
+    longitudinal = sympy.factor(a + b * P2)
+    if a == 0 or longitudinal == 0:
+        hint = ("a massless vector needs gauge fixing: make it the boson of a gauge group with 'fixing lorenz'"
+                if a != 0 else f"add the kinetic term -1/4 F[mu,nu] F[mu,nu] of '{f.name}'")
+        raise DerivationError(f"the quadratic kernel of '{f.name}' cannot be inverted", f.span, hint)
+    # (a g + b p p)^-1 = g / a - b p p / (a (a + b p^2))
+    return Propagator(f.name, "vector", sympy.factor(sympy.I / a),
+                      sympy.factor(-sympy.I * b / (a * longitudinal)), gauge, model)
+
+
+def _no_kernel(f: m.Field) -> DerivationError:
+    return DerivationError(f"the field '{f.name}' has no kinetic term, so it has no propagator", f.span,
+                           "add its kinetic term to the lagrangian")
+
+
+# ------------------------------------------------------------------ everything
+
+def derive_rules(model: m.Model, gauge: str = "xi") -> Rules:
+    """Every vertex (three or more legs) and every propagator of a model."""
+    if gauge not in GAUGES:
+        raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
+    monomials = list(expand_model(model))
+    for mono in monomials:
+        check_chains(model, mono)
+    groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)
+    for mono in monomials:
+        species = tuple(sorted(species_of(model, a) for a in mono.fields))
+        groups[species].append(mono)
+    vertices: list[Vertex] = []
+    quadratic: dict[str, list[Monomial]] = defaultdict(list)
+    for species, monos in groups.items():
+        if len(species) >= 3:
+            v = vertex_from(model, list(species), monos)
+            if v is not None:
+                vertices.append(v)
+        elif len(species) == 2:
+            (f1, c1), (f2, c2) = species
+            field = model.fields[f1]
+            if f1 != f2 or (field.is_complex and c1 == c2):
+                line = monos[0].origin
+                raise DerivationError(f"'{_label(model, species[0])}' and '{_label(model, species[1])}' mix at "
+                                      "quadratic order", line,
+                                      "rotate the fields to mass eigenstates (or remove the mixing term) "
+                                      "before deriving propagators")
+            quadratic[f1].extend(monos)
+    for group in model.groups.values():
+        quadratic[group.boson].extend(_gauge_fixing(model, group, gauge))
+    propagators = []
+    for f in model.fields.values():
+        propagators.append(propagator_for(model, f, quadratic.get(f.name, []), gauge))
+    vertices.sort(key=lambda v: (len(v.legs), v.labels))
+    return Rules(model, gauge, tuple(vertices), tuple(propagators))
+
+
+def _label(model: m.Model, s: Species) -> str:
+    f = model.fields[s[0]]
+    if not s[1]:
+        return s[0]
+    return f"bar({s[0]})" if f.is_fermion else f"dag({s[0]})"

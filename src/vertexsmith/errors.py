@@ -1,0 +1,111 @@
+"""Every error a user can see, under one root, each pointing at a place in a model file.
+
+A `VertexsmithError` carries a `Span` and, once the file is known, a `Source`; `str()` of it
+prints ``file:line:col: error: message``, the offending line, a caret under the column, and a
+hint saying what to write instead.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class Span:
+    """A region of a model file, 1-based line and column (end inclusive of its last character)."""
+
+    line: int
+    column: int
+    end_line: int
+    end_column: int
+
+    @classmethod
+    def point(cls, line: int, column: int) -> "Span":
+        return cls(line, column, line, column)
+
+
+UNKNOWN_SPAN = Span(0, 0, 0, 0)
+
+
+@dataclass(frozen=True)
+class Source:
+    """The text of a model file and the name it is reported under."""
+
+    name: str
+    text: str
+
+    def line(self, number: int) -> str:
+        lines = self.text.splitlines()
+        return lines[number - 1] if 0 < number <= len(lines) else ""
+
+
+class VertexsmithError(Exception):
+    """Root of every error vertexsmith reports to a user."""
+
+    severity = "error"
+
+    def __init__(self, message: str, span: Span = UNKNOWN_SPAN, hint: str = "",
+                 source: Source | None = None) -> None:
+        super().__init__(message)
+        self.message = message
+        self.span = span
+        self.hint = hint
+        self.source = source
+
+    def with_source(self, source: Source) -> "VertexsmithError":
+        if self.source is None:
+            self.source = source
+        return self
+
+    def __str__(self) -> str:
+        return format_diagnostic(self.severity, self.message, self.span, self.hint, self.source)
+
+
+class ModelSyntaxError(VertexsmithError):
+    """The text does not have the shape of the model language."""
+
+
+class ModelMeaningError(VertexsmithError):
+    """The text parses but does not make sense: unknown name, loose index, bar() of a boson..."""
+
+
+class DerivationError(VertexsmithError):
+    """The rules cannot be derived: unrotated mixing, size limits, a kernel that cannot be inverted."""
+
+
+class UsageError(VertexsmithError):
+    """A command, option or file that cannot be used (CLI exit code 2)."""
+
+
+def format_diagnostic(severity: str, message: str, span: Span, hint: str = "",
+                      source: Source | None = None) -> str:
+    """Render one diagnostic in the compiler style: location, message, line, caret, hint."""
+    name = source.name if source is not None else "<model>"
+    if span.line <= 0:
+        head = f"{name}: {severity}: {message}"
+        return head + (f"\n  hint: {hint}" if hint else "")
+    lines = [f"{name}:{span.line}:{span.column}: {severity}: {message}"]
+    if source is not None:
+        text = source.line(span.line).expandtabs(1)
+        width = 1
+        if span.end_line == span.line and span.end_column >= span.column:
+            width = span.end_column - span.column + 1
+        lines.append(f"  {text}")
+        lines.append("  " + " " * (span.column - 1) + "^" * max(1, min(width, len(text) - span.column + 2)))
+    if hint:
+        lines.append(f"  hint: {hint}")
+    return "\n".join(lines)
+
+
+def nearest_names(name: str, candidates: "list[str] | set[str] | tuple[str, ...]", limit: int = 3) -> list[str]:
+    """Declared names closest to a misspelt one, for 'did you mean' hints."""
+    import difflib
+
+    return difflib.get_close_matches(name, sorted(candidates), n=limit, cutoff=0.5)
+
+
+def did_you_mean(name: str, candidates: "list[str] | set[str] | tuple[str, ...]", fallback: str = "") -> str:
+    close = nearest_names(name, candidates)
+    if close:
+        return "did you mean " + " or ".join(f"'{c}'" for c in close) + "?"
+    return fallback

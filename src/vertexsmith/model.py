@@ -1,0 +1,248 @@
+"""The meaning of a model file: declarations and the Lagrangian as a typed expression tree.
+
+`build` produces a `Model`; nothing here knows about text. The Lagrangian nodes (`L*` classes)
+are resolved: every name is a field, a parameter, a definition or a built-in object, every
+number a sympy number, and every index checked.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+from typing import TYPE_CHECKING, Any, Union
+
+import sympy
+
+from .errors import Source, Span
+
+if TYPE_CHECKING:
+    from .rules import Rules
+
+FERMION_KINDS = ("dirac", "majorana")
+GRASSMANN_KINDS = ("dirac", "majorana", "ghost")
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A named number: a coupling, a mass, an angle; real unless declared complex."""
+
+    name: str
+    roles: tuple[str, ...]
+    is_complex: bool
+    definition: sympy.Expr | None
+    value: complex | None
+    description: str
+    span: Span = field(compare=False)
+
+    @property
+    def symbol(self) -> sympy.Symbol:
+        return parameter_symbol(self.name, self.is_complex)
+
+
+def parameter_symbol(name: str, is_complex: bool = False) -> sympy.Symbol:
+    """The sympy symbol of a parameter; real parameters are real symbols so conj() leaves them."""
+    return sympy.Symbol(name) if is_complex else sympy.Symbol(name, real=True)
+
+
+@dataclass(frozen=True)
+class Field:
+    """A quantum field: its kind, whether it is its own conjugate, mass and charges."""
+
+    name: str
+    kind: str  # scalar, dirac, majorana, vector, ghost
+    is_complex: bool
+    mass: sympy.Expr
+    charges: tuple[tuple[str, Fraction], ...]
+    description: str
+    span: Span = field(compare=False)
+
+    @property
+    def is_fermion(self) -> bool:
+        return self.kind in FERMION_KINDS
+
+    @property
+    def is_grassmann(self) -> bool:
+        return self.kind in GRASSMANN_KINDS
+
+    @property
+    def is_vector(self) -> bool:
+        return self.kind == "vector"
+
+    @property
+    def self_conjugate(self) -> bool:
+        """Real scalars, real vectors and Majorana fermions are their own antiparticles."""
+        return not self.is_complex
+
+    def charge(self, group: str) -> Fraction:
+        return dict(self.charges).get(group, Fraction(0))
+
+
+@dataclass(frozen=True)
+class GaugeGroup:
+    """A gauge group factor with its boson, field-strength name, coupling and gauge fixing."""
+
+    name: str
+    kind: str  # "U1"
+    boson: str
+    strength: str
+    coupling: sympy.Expr
+    fixing: str  # "lorenz" (R_xi, added automatically) or "none"
+    span: Span = field(compare=False)
+
+    @property
+    def xi(self) -> sympy.Symbol:
+        """The gauge parameter of this group, named after its boson."""
+        return sympy.Symbol(f"xi_{self.boson}", positive=True)
+
+
+@dataclass(frozen=True)
+class Conventions:
+    """Model-level sign switches. covariant_sign = +1 means D = d - i g Q A."""
+
+    covariant_sign: int = 1
+    eps0123: int = -1
+
+
+# ------------------------------------------------------------------ Lagrangian expression tree
+
+@dataclass(frozen=True)
+class LScalar:
+    """A field-free factor: numbers, parameters, I, pi and functions of them."""
+
+    value: sympy.Expr
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LField:
+    field: str
+    conjugate: bool
+    index: str | None
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LDirac:
+    """A Dirac matrix: gamma (1 index), gamma5, PL, PR, sigma (2 indices)."""
+
+    kind: str
+    indices: tuple[str, ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LTensor:
+    """A numeric Lorentz tensor: metric g (2 indices) or Levi-Civita eps (4)."""
+
+    kind: str
+    indices: tuple[str, ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LDerivative:
+    """d[mu] (plain) or D[mu] (covariant); acts on the factor that follows it."""
+
+    index: str
+    covariant: bool
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LStrength:
+    """The field strength of a gauge group with its two indices."""
+
+    group: str
+    indices: tuple[str, str]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LDefinitionUse:
+    name: str
+    indices: tuple[str, ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LSum:
+    terms: tuple[tuple[int, "LNode"], ...]
+    has_hc: bool
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LProduct:
+    factors: tuple["LNode", ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LPower:
+    base: "LNode"
+    exponent: int
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class LDagger:
+    """dag(...) of an expression: its hermitian conjugate."""
+
+    inner: "LNode"
+    span: Span = field(compare=False)
+
+
+LNode = Union[LScalar, LField, LDirac, LTensor, LDerivative, LStrength, LDefinitionUse, LSum,
+              LProduct, LPower, LDagger]
+
+
+@dataclass(frozen=True)
+class Definition:
+    name: str
+    indices: tuple[str, ...]
+    body: LNode
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class Term:
+    """One line of the Lagrangian."""
+
+    node: LNode
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True, eq=False)
+class Model:
+    """A built model: declarations, definitions, Lagrangian terms and conventions."""
+
+    name: str
+    description: str
+    parameters: dict[str, Parameter]
+    fields: dict[str, Field]
+    groups: dict[str, GaugeGroup]
+    definitions: dict[str, Definition]
+    terms: tuple[Term, ...]
+    conventions: Conventions
+    source: Source
+
+    def derive(self, gauge: str = "xi") -> "Rules":
+        """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'."""
+        from .derive import derive_rules
+
+        return derive_rules(self, gauge=gauge)
+
+    def monomials(self) -> tuple[Any, ...]:
+        """The Lagrangian expanded into monomials (coefficient times ordered field factors)."""
+        from .expand import expand_model
+
+        return expand_model(self)
+
+    def parameter_values(self, overrides: dict[str, complex] | None = None) -> dict[sympy.Symbol, complex]:
+        """Numeric values of all parameters: the model's own numbers, overridden by the caller's."""
+        from .build import resolve_values
+
+        return resolve_values(self, overrides or {})
+
+    def boson_group(self, field_name: str) -> GaugeGroup | None:
+        return next((g for g in self.groups.values() if g.boson == field_name), None)

@@ -1,0 +1,159 @@
+"""Numbers from structures: explicit Dirac matrices, the metric, Levi-Civita, and einsum.
+
+Layout (a contract, see the README): for each leg in order, a Lorentz axis (vector legs, upper
+index, 4) then a spinor axis (fermion legs, Dirac representation, 4). Momenta are upper-index
+4-vectors (E, px, py, pz), all incoming.
+"""
+
+from __future__ import annotations
+
+import itertools
+import string
+from typing import Sequence
+
+import numpy as np
+
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, LegIndex, Metric, Momentum, Sigma, Slot,
+                         Structure, Vector)
+
+METRIC = np.diag([1.0, -1.0, -1.0, -1.0]).astype(complex)
+_PAULI = [np.array([[0, 1], [1, 0]], dtype=complex), np.array([[0, -1j], [1j, 0]], dtype=complex),
+          np.array([[1, 0], [0, -1]], dtype=complex)]
+_I2, _Z2 = np.eye(2, dtype=complex), np.zeros((2, 2), dtype=complex)
+
+
+def _dirac_gammas() -> np.ndarray:
+    g0 = np.block([[_I2, _Z2], [_Z2, -_I2]])
+    gs = [np.block([[_Z2, s], [-s, _Z2]]) for s in _PAULI]
+    return np.array([g0] + gs)
+
+
+GAMMA = _dirac_gammas()  # gamma^mu, upper index, Dirac representation
+GAMMA5 = 1j * GAMMA[0] @ GAMMA[1] @ GAMMA[2] @ GAMMA[3]
+IDENTITY4 = np.eye(4, dtype=complex)
+PROJ_L = (IDENTITY4 - GAMMA5) / 2
+PROJ_R = (IDENTITY4 + GAMMA5) / 2
+SIGMA = np.array([[0.5j * (GAMMA[m] @ GAMMA[n] - GAMMA[n] @ GAMMA[m]) for n in range(4)] for m in range(4)])
+_CHIRAL = {"gamma5": GAMMA5, "PL": PROJ_L, "PR": PROJ_R}
+
+
+def levi_civita(eps0123: int) -> np.ndarray:
+    """epsilon^{mu nu rho sigma} with all indices upper and the given sign of epsilon^{0123}."""
+    eps = np.zeros((4, 4, 4, 4), dtype=complex)
+    for perm in itertools.permutations(range(4)):
+        inversions = sum(1 for i in range(4) for j in range(i + 1, 4) if perm[i] > perm[j])
+        eps[perm] = eps0123 * (-1) ** inversions
+    return eps
+
+
+def lower(vector: np.ndarray) -> np.ndarray:
+    return METRIC @ vector
+
+
+def slash(p: np.ndarray) -> np.ndarray:
+    """p-slash = gamma^mu p_mu."""
+    return np.einsum("m,mij->ij", lower(p), GAMMA)
+
+
+def minkowski_dot(p: np.ndarray, q: np.ndarray) -> complex:
+    return complex(p @ METRIC @ q)
+
+
+class _Labels:
+    def __init__(self) -> None:
+        self._letters = iter(string.ascii_letters)
+        self.names: dict[object, str] = {}
+
+    def of(self, key: object) -> str:
+        if key not in self.names:
+            try:
+                self.names[key] = next(self._letters)
+            except StopIteration:  # pragma: no cover - 52 axes is far beyond any vertex
+                raise ValueError("too many tensor axes to evaluate") from None
+        return self.names[key]
+
+    def fresh(self) -> str:
+        return self.of(object())
+
+
+def momentum_value(momentum: Momentum, momenta: np.ndarray) -> np.ndarray:
+    total = np.zeros(4, dtype=complex)
+    for leg, c in momentum.terms:
+        total = total + float(c) * momenta[leg - 1]
+    return total
+
+
+def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple[int, str]], momenta: np.ndarray,
+                       eps0123: int) -> np.ndarray:
+    """The tensor of one structure with axes in leg order; leg_axes is [(leg, 'lorentz'|'spinor'), ...]."""
+    labels = _Labels()
+    operands: list[np.ndarray] = []
+    subscripts: list[str] = []
+    scalar = 1.0 + 0j
+    dummy_seen: dict[str, str] = {}
+
+    def slot_label(slot: Slot) -> str:
+        if isinstance(slot, LegIndex):
+            return labels.of(("lorentz", slot.leg))
+        if isinstance(slot, Dummy):
+            if slot.name in dummy_seen:
+                # second occurrence: lower it through the metric
+                first = dummy_seen.pop(slot.name)
+                other = labels.fresh()
+                operands.append(METRIC)
+                subscripts.append(first + other)
+                return other
+            label = labels.fresh()
+            dummy_seen[slot.name] = label
+            return label
+        # a momentum in an index slot: contract with the lowered momentum
+        label = labels.fresh()
+        operands.append(lower(momentum_value(slot, momenta)))
+        subscripts.append(label)
+        return label
+
+    for tensor in structure.tensors:
+        if isinstance(tensor, Dot):
+            scalar *= minkowski_dot(momentum_value(tensor.p, momenta), momentum_value(tensor.q, momenta))
+        elif isinstance(tensor, Metric):
+            operands.append(METRIC)  # numerically g^{mu nu} = g_{mu nu}
+            subscripts.append(slot_label(tensor.a) + slot_label(tensor.b))
+        elif isinstance(tensor, Vector):
+            operands.append(momentum_value(tensor.momentum, momenta))
+            subscripts.append(slot_label(tensor.index))
+        elif isinstance(tensor, Epsilon):
+            operands.append(levi_civita(eps0123))
+            subscripts.append("".join(slot_label(s) for s in tensor.slots_))
+    for chain in structure.chains:
+        _chain_operands(chain, labels, operands, subscripts, slot_label, momenta)
+    output = "".join(labels.of((kind, leg)) for leg, kind in leg_axes)
+    if not operands:
+        return np.array(scalar, dtype=complex)
+    expression = ",".join(subscripts) + "->" + output
+    return scalar * np.einsum(expression, *operands, optimize=len(operands) > 2)
+
+
+def _chain_operands(chain: Chain, labels: _Labels, operands: list[np.ndarray], subscripts: list[str],
+                    slot_label: "callable", momenta: np.ndarray) -> None:  # type: ignore[valid-type]
+    start = labels.of(("spinor", chain.bar_leg))
+    end = labels.of(("spinor", chain.leg))
+    if not chain.matrices:
+        operands.append(IDENTITY4)
+        subscripts.append(start + end)
+        return
+    current = start
+    for k, mat in enumerate(chain.matrices):
+        nxt = end if k == len(chain.matrices) - 1 else labels.fresh()
+        if isinstance(mat, Chiral):
+            operands.append(_CHIRAL[mat.kind])
+            subscripts.append(current + nxt)
+        elif isinstance(mat, Gamma) and isinstance(mat.slot, Momentum):
+            operands.append(slash(momentum_value(mat.slot, momenta)))
+            subscripts.append(current + nxt)
+        elif isinstance(mat, Gamma):
+            operands.append(GAMMA)
+            subscripts.append(slot_label(mat.slot) + current + nxt)
+        elif isinstance(mat, Sigma):
+            operands.append(SIGMA)
+            subscripts.append(slot_label(mat.a) + slot_label(mat.b) + current + nxt)
+        current = nxt

@@ -1,0 +1,387 @@
+"""Lorentz and Dirac structures of vertex factors: small immutable objects with slots.
+
+A slot of a tensor is filled by a leg's Lorentz index (`LegIndex`), a linear combination of
+incoming leg momenta (`Momentum`), or an internal contracted index (`Dummy`). A vertex term is a
+coefficient times a `Structure`: commuting tensors (metric, four-vector, dot product,
+Levi-Civita) and spinor chains bar(leg) [Dirac matrices] leg. Everything is canonicalised so
+that equal structures compare equal, and everything can be evaluated numerically.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from fractions import Fraction
+from typing import Iterable, Union
+
+
+@dataclass(frozen=True, order=True)
+class LegIndex:
+    """The Lorentz index of vector leg `leg` (1-based)."""
+
+    leg: int
+
+    def key(self) -> tuple:
+        return (0, self.leg)
+
+
+@dataclass(frozen=True, order=True)
+class Momentum:
+    """A linear combination of incoming leg momenta: ((leg, coefficient), ...), sorted by leg."""
+
+    terms: tuple[tuple[int, Fraction], ...]
+
+    @classmethod
+    def of(cls, leg: int) -> "Momentum":
+        return cls(((leg, Fraction(1)),))
+
+    def key(self) -> tuple:
+        return (1, tuple((leg, c) for leg, c in self.terms))
+
+    def plus(self, other: "Momentum", factor: Fraction) -> "Momentum":
+        total: dict[int, Fraction] = dict(self.terms)
+        for leg, c in other.terms:
+            total[leg] = total.get(leg, Fraction(0)) + factor * c
+        return Momentum(tuple(sorted((leg, c) for leg, c in total.items() if c != 0)))
+
+    def relabel(self, new: dict[int, int]) -> "Momentum":
+        return Momentum(tuple(sorted((new[leg], c) for leg, c in self.terms)))
+
+
+@dataclass(frozen=True, order=True)
+class Dummy:
+    """An internal contracted index; canonical names are r1, r2, ..."""
+
+    name: str
+
+    def key(self) -> tuple:
+        return (2, self.name)
+
+
+Slot = Union[LegIndex, Momentum, Dummy]
+
+
+def slot_key(slot: Slot) -> tuple:
+    return slot.key()
+
+
+# ------------------------------------------------------------------ commuting tensors
+
+@dataclass(frozen=True)
+class Metric:
+    a: Slot
+    b: Slot
+
+    def slots(self) -> tuple[Slot, ...]:
+        return (self.a, self.b)
+
+
+@dataclass(frozen=True)
+class Vector:
+    """p^mu: a momentum combination carrying a leg's or a dummy Lorentz index."""
+
+    momentum: Momentum
+    index: Slot
+
+    def slots(self) -> tuple[Slot, ...]:
+        return (self.momentum, self.index)
+
+
+@dataclass(frozen=True)
+class Dot:
+    p: Momentum
+    q: Momentum
+
+    def slots(self) -> tuple[Slot, ...]:
+        return (self.p, self.q)
+
+
+@dataclass(frozen=True)
+class Epsilon:
+    slots_: tuple[Slot, Slot, Slot, Slot]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return self.slots_
+
+
+Tensor = Union[Metric, Vector, Dot, Epsilon]
+
+
+# ------------------------------------------------------------------ Dirac matrices and chains
+
+@dataclass(frozen=True)
+class Gamma:
+    """gamma^slot; with a Momentum slot it is p-slash."""
+
+    slot: Slot
+
+    def slots(self) -> tuple[Slot, ...]:
+        return (self.slot,)
+
+
+@dataclass(frozen=True)
+class Sigma:
+    """sigma^{a b} = (i/2)[gamma^a, gamma^b]."""
+
+    a: Slot
+    b: Slot
+
+    def slots(self) -> tuple[Slot, ...]:
+        return (self.a, self.b)
+
+
+@dataclass(frozen=True)
+class Chiral:
+    """gamma5, PL = (1 - gamma5)/2 or PR = (1 + gamma5)/2."""
+
+    kind: str
+
+    def slots(self) -> tuple[Slot, ...]:
+        return ()
+
+
+DiracMatrix = Union[Gamma, Sigma, Chiral]
+
+
+@dataclass(frozen=True)
+class Chain:
+    """bar(u_bar_leg) [matrices] u_leg: spinor indices (bar_leg, leg), matrices in order."""
+
+    bar_leg: int
+    leg: int
+    matrices: tuple[DiracMatrix, ...]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return tuple(s for mat in self.matrices for s in mat.slots())
+
+
+@dataclass(frozen=True)
+class Structure:
+    """Commuting tensors (sorted) and spinor chains (sorted by their bar leg)."""
+
+    tensors: tuple[Tensor, ...] = ()
+    chains: tuple[Chain, ...] = ()
+
+    def slots(self) -> tuple[Slot, ...]:
+        return tuple(s for t in self.tensors for s in t.slots()) + tuple(s for c in self.chains for s in c.slots())
+
+    def map_slots(self, f: "callable") -> "Structure":  # type: ignore[valid-type]
+        return Structure(tuple(_map_tensor(t, f) for t in self.tensors),
+                         tuple(Chain(c.bar_leg, c.leg, tuple(_map_matrix(mat, f) for mat in c.matrices))
+                               for c in self.chains))
+
+
+def _map_tensor(t: Tensor, f: "callable") -> Tensor:  # type: ignore[valid-type]
+    if isinstance(t, Metric):
+        return Metric(f(t.a), f(t.b))
+    if isinstance(t, Vector):
+        return Vector(f(t.momentum), f(t.index))
+    if isinstance(t, Dot):
+        return Dot(f(t.p), f(t.q))
+    return Epsilon(tuple(f(s) for s in t.slots_))  # type: ignore[arg-type]
+
+
+def _map_matrix(mat: DiracMatrix, f: "callable") -> DiracMatrix:  # type: ignore[valid-type]
+    if isinstance(mat, Gamma):
+        return Gamma(f(mat.slot))
+    if isinstance(mat, Sigma):
+        return Sigma(f(mat.a), f(mat.b))
+    return mat
+
+
+# ------------------------------------------------------------------ canonical form
+
+def _permutation_sign(keys: list) -> int:
+    """Sign of the permutation that sorts `keys` (no repeats)."""
+    sign = 1
+    order = sorted(range(len(keys)), key=lambda i: keys[i])
+    seen = [False] * len(order)
+    for i in range(len(order)):
+        if seen[i]:
+            continue
+        j, length = i, 0
+        while not seen[j]:
+            seen[j] = True
+            j = order[j]
+            length += 1
+        if length % 2 == 0:
+            sign = -sign
+    return sign
+
+
+def _tensor_key(t: Tensor) -> tuple:
+    kind = {Metric: 0, Vector: 1, Dot: 2, Epsilon: 3}[type(t)]
+    return (kind, tuple(slot_key(s) for s in t.slots()))
+
+
+def _canonical_tensor(t: Tensor) -> tuple[int, Tensor | None]:
+    """(sign, tensor) with symmetric slots sorted; (0, None) for a vanishing tensor."""
+    if isinstance(t, Metric):
+        a, b = sorted((t.a, t.b), key=slot_key)
+        return 1, Metric(a, b)
+    if isinstance(t, Dot):
+        p, q = sorted((t.p, t.q), key=slot_key)
+        return 1, Dot(p, q)
+    if isinstance(t, Epsilon):
+        keys = [slot_key(s) for s in t.slots_]
+        if len(set(keys)) < 4:
+            return 0, None
+        sign = _permutation_sign(keys)
+        return sign, Epsilon(tuple(sorted(t.slots_, key=slot_key)))  # type: ignore[arg-type]
+    return 1, t
+
+
+_CHIRAL_PRODUCT = {  # left x right -> (coefficient, result); None result = identity
+    ("gamma5", "gamma5"): (1, None), ("gamma5", "PL"): (-1, "PL"), ("gamma5", "PR"): (1, "PR"),
+    ("PL", "gamma5"): (-1, "PL"), ("PR", "gamma5"): (1, "PR"), ("PL", "PL"): (1, "PL"),
+    ("PR", "PR"): (1, "PR"), ("PL", "PR"): (0, None), ("PR", "PL"): (0, None),
+}
+_CHIRAL_THROUGH_GAMMA = {"gamma5": ("gamma5", -1), "PL": ("PR", 1), "PR": ("PL", 1)}
+
+
+def _canonical_chain(chain: Chain) -> tuple[int, Chain | None]:
+    """Move gamma5 and the projectors to the right end and multiply them out.
+
+    gamma5 anticommutes with gamma^mu (PL gamma^mu = gamma^mu PR) and commutes with sigma^{mu nu}.
+    sigma^{ab} is antisymmetric, so its slots are sorted with a sign.
+    """
+    sign = 1
+    chiral: str | None = None
+    lorentz: list[DiracMatrix] = []
+    # walk from the right, carrying the accumulated chiral matrix leftwards past nothing:
+    # instead, push each chiral factor rightwards through the matrices after it.
+    items = list(chain.matrices)
+    for k, mat in enumerate(items):
+        if isinstance(mat, Chiral):
+            kind = mat.kind
+            for later in items[k + 1:]:
+                if isinstance(later, Gamma):
+                    kind, s = _CHIRAL_THROUGH_GAMMA[kind]
+                    sign *= s
+            if chiral is None:
+                chiral = kind
+            else:
+                coefficient, result = _CHIRAL_PRODUCT[(chiral, kind)]
+                if coefficient == 0:
+                    return 0, None
+                sign *= coefficient
+                chiral = result
+        elif isinstance(mat, Sigma):
+            ka, kb = slot_key(mat.a), slot_key(mat.b)
+            if ka == kb:
+                return 0, None
+            if kb < ka:
+                sign = -sign
+                mat = Sigma(mat.b, mat.a)
+            lorentz.append(mat)
+        else:
+            lorentz.append(mat)
+    # gamma^r gamma_r = 4 for adjacent contracted gammas
+    reduced: list[DiracMatrix] = []
+    factor = 1
+    for mat in lorentz:
+        if (reduced and isinstance(mat, Gamma) and isinstance(mat.slot, Dummy) and isinstance(reduced[-1], Gamma)
+                and reduced[-1].slot == mat.slot):
+            reduced.pop()
+            factor *= 4
+            continue
+        reduced.append(mat)
+    if chiral is not None:
+        reduced.append(Chiral(chiral))
+    return sign * factor, Chain(chain.bar_leg, chain.leg, tuple(reduced))
+
+
+def canonical_structure(structure: Structure) -> tuple[int, Structure | None]:
+    """(sign, canonical structure) or (0, None) when the structure vanishes."""
+    sign = 1
+    tensors: list[Tensor] = []
+    for t in structure.tensors:
+        s, c = _canonical_tensor(t)
+        if c is None:
+            return 0, None
+        sign *= s
+        tensors.append(c)
+    chains: list[Chain] = []
+    for ch in structure.chains:
+        s, c2 = _canonical_chain(ch)
+        if c2 is None:
+            return 0, None
+        sign *= s
+        chains.append(c2)
+    tensors.sort(key=_tensor_key)
+    chains.sort(key=lambda c: (c.bar_leg, c.leg))
+    result = Structure(tuple(tensors), tuple(chains))
+    # dummy names by order of appearance
+    names: dict[str, Dummy] = {}
+
+    def rename(slot: Slot) -> Slot:
+        if isinstance(slot, Dummy):
+            if slot.name not in names:
+                names[slot.name] = Dummy(f"r{len(names) + 1}")
+            return names[slot.name]
+        return slot
+
+    for slot in result.slots():
+        rename(slot)
+    if names and any(old != new.name for old, new in names.items()):
+        result = result.map_slots(rename)
+        tensors2 = sorted(result.tensors, key=_tensor_key)
+        result = Structure(tuple(tensors2), result.chains)
+    return sign, result
+
+
+def structure_sort_key(structure: Structure) -> tuple:
+    """A total, deterministic order of structures (for output)."""
+    return (len(structure.tensors), tuple(_tensor_key(t) for t in structure.tensors),
+            tuple((c.bar_leg, c.leg, tuple(_matrix_key(mat) for mat in c.matrices)) for c in structure.chains))
+
+
+def _matrix_key(mat: DiracMatrix) -> tuple:
+    if isinstance(mat, Gamma):
+        return (0, slot_key(mat.slot))
+    if isinstance(mat, Sigma):
+        return (1, slot_key(mat.a), slot_key(mat.b))
+    return (2, mat.kind)
+
+
+def momentum_slots(structure: Structure) -> list[int]:
+    """Positions (in `structure.slots()` order) of momentum slots."""
+    return [k for k, s in enumerate(structure.slots()) if isinstance(s, Momentum)]
+
+
+def replace_slot(structure: Structure, position: int, value: Slot) -> Structure:
+    counter = iter(range(10_000))
+
+    def f(slot: Slot) -> Slot:
+        return value if next(counter) == position else slot
+
+    return structure.map_slots(f)
+
+
+def relabel_legs(structure: Structure, new: dict[int, int]) -> Structure:
+    """Renumber legs (old -> new position) in every slot and chain."""
+
+    def f(slot: Slot) -> Slot:
+        if isinstance(slot, LegIndex):
+            return LegIndex(new[slot.leg])
+        if isinstance(slot, Momentum):
+            return slot.relabel(new)
+        return slot
+
+    mapped = structure.map_slots(f)
+    chains = tuple(Chain(new[c.bar_leg], new[c.leg], c.matrices) for c in mapped.chains)
+    return Structure(mapped.tensors, chains)
+
+
+def legs_in(slots: Iterable[Slot]) -> set[int]:
+    out: set[int] = set()
+    for s in slots:
+        if isinstance(s, LegIndex):
+            out.add(s.leg)
+        elif isinstance(s, Momentum):
+            out.update(leg for leg, _ in s.terms)
+    return out
+
+
+__all__ = ["LegIndex", "Momentum", "Dummy", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
+           "Sigma", "Chiral", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
+           "momentum_slots", "replace_slot", "relabel_legs", "replace"]

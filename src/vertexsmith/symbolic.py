@@ -1,0 +1,194 @@
+"""Our own sympy objects for Lorentz and Dirac structures, so that factors are sympy expressions.
+
+`Metric(mu1, mu2)`, `FourVector(p1 - p2, mu3)`, `Dot(p1, p2)`, `LeviCivita(...)` commute;
+`Gamma(mu1)`, `Slash(p1)`, `Sigma(mu1, mu2)`, `Gamma5`, `ProjL`, `ProjR` do not. A product of
+several spinor chains is written `Chain(1, 2, M)`, the matrix M between bar(leg 1) and leg 2.
+`parse_factor(text)` reads the string form back (only these names are known to it).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import sympy
+from sympy.printing.latex import LatexPrinter
+
+from .structures import (Chain as ChainStruct, Chiral, Dot as DotStruct, Dummy, Epsilon, Gamma as GammaStruct,
+                         LegIndex, Metric as MetricStruct, Momentum, Sigma as SigmaStruct, Slot, Structure,
+                         Vector)
+
+
+def momentum_symbol(leg: int) -> sympy.Symbol:
+    return sympy.Symbol(f"p{leg}")
+
+
+def index_symbol(leg: int) -> sympy.Symbol:
+    return sympy.Symbol(f"mu{leg}")
+
+
+def _latex_index(s: Any, printer: LatexPrinter) -> str:
+    name = str(s)
+    for prefix, tex in (("mu", r"\mu"), ("nu", r"\nu"), ("rho", r"\rho"), ("r", r"\rho")):
+        if name.startswith(prefix) and name[len(prefix):].isdigit():
+            return f"{tex}_{{{name[len(prefix):]}}}"
+    return printer._print(s)
+
+
+def _latex_momentum(p: Any, printer: LatexPrinter) -> str:
+    text = printer._print(p)
+    return f"({text})" if isinstance(p, sympy.Add) else text
+
+
+class Metric(sympy.Function):
+    """g^{mu nu}, metric (+,-,-,-)."""
+
+    nargs = 2
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return f"g^{{{_latex_index(self.args[0], printer)} {_latex_index(self.args[1], printer)}}}"
+
+
+class FourVector(sympy.Function):
+    """p^mu for a (combination of) incoming momenta."""
+
+    nargs = 2
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return f"{_latex_momentum(self.args[0], printer)}^{{{_latex_index(self.args[1], printer)}}}"
+
+
+class Dot(sympy.Function):
+    """p.q = p^mu q_mu."""
+
+    nargs = 2
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return f"{_latex_momentum(self.args[0], printer)} \\cdot {_latex_momentum(self.args[1], printer)}"
+
+
+class LeviCivita(sympy.Function):
+    """epsilon^{mu nu rho sigma}; a momentum in a slot is contracted."""
+
+    nargs = 4
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        parts = []
+        for a in self.args:
+            parts.append(_latex_index(a, printer) if isinstance(a, sympy.Symbol) and not str(a).startswith("p")
+                         else _latex_momentum(a, printer))
+        return "\\epsilon^{" + " ".join(parts) + "}"
+
+
+class Gamma(sympy.Function):
+    """gamma^mu (non-commuting)."""
+
+    nargs = 1
+    is_commutative = False
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return f"\\gamma^{{{_latex_index(self.args[0], printer)}}}"
+
+
+class Slash(sympy.Function):
+    """p-slash = gamma^mu p_mu (non-commuting)."""
+
+    nargs = 1
+    is_commutative = False
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return f"\\not{{{_latex_momentum(self.args[0], printer)}}}"
+
+
+class Sigma(sympy.Function):
+    """sigma^{mu nu} = (i/2)[gamma^mu, gamma^nu] (non-commuting)."""
+
+    nargs = 2
+    is_commutative = False
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        parts = [_latex_index(a, printer) if isinstance(a, sympy.Symbol) and not str(a).startswith("p")
+                 else _latex_momentum(a, printer) for a in self.args]
+        return "\\sigma^{" + " ".join(parts) + "}"
+
+
+class Chain(sympy.Function):
+    """Chain(i, j, M): the spinor chain bar(leg i) M leg j, for vertices with several chains."""
+
+    nargs = 3
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        i, j, mat = self.args
+        return f"\\left[{printer._print(mat)}\\right]_{{{i} {j}}}"
+
+
+Gamma5 = sympy.Symbol("Gamma5", commutative=False)
+ProjL = sympy.Symbol("ProjL", commutative=False)
+ProjR = sympy.Symbol("ProjR", commutative=False)
+_CHIRAL_SYMBOLS = {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR}
+LATEX_NAMES = {Gamma5: r"\gamma^5", ProjL: "P_L", ProjR: "P_R"}
+
+NAMESPACE: dict[str, Any] = {"Metric": Metric, "FourVector": FourVector, "Dot": Dot, "LeviCivita": LeviCivita,
+                             "Gamma": Gamma, "Slash": Slash, "Sigma": Sigma, "Chain": Chain, "Gamma5": Gamma5,
+                             "ProjL": ProjL, "ProjR": ProjR, "I": sympy.I, "pi": sympy.pi}
+
+
+def slot_to_sympy(slot: Slot) -> sympy.Expr:
+    if isinstance(slot, LegIndex):
+        return index_symbol(slot.leg)
+    if isinstance(slot, Dummy):
+        return sympy.Symbol(slot.name)
+    return sympy.Add(*[sympy.Rational(c.numerator, c.denominator) * momentum_symbol(leg) for leg, c in slot.terms])
+
+
+def _matrices_to_sympy(chain: ChainStruct) -> sympy.Expr:
+    factors: list[sympy.Expr] = []
+    for mat in chain.matrices:
+        if isinstance(mat, GammaStruct):
+            factors.append(Slash(slot_to_sympy(mat.slot)) if isinstance(mat.slot, Momentum)
+                           else Gamma(slot_to_sympy(mat.slot)))
+        elif isinstance(mat, SigmaStruct):
+            factors.append(Sigma(slot_to_sympy(mat.a), slot_to_sympy(mat.b)))
+        elif isinstance(mat, Chiral):
+            factors.append(_CHIRAL_SYMBOLS[mat.kind])
+    return sympy.Mul(*factors) if factors else sympy.Integer(1)
+
+
+def lorentz_to_sympy(structure: Structure, wrap_chains: bool) -> sympy.Expr:
+    """The Lorentz and Dirac part of a structure as a sympy expression."""
+    factors: list[sympy.Expr] = []
+    for t in structure.tensors:
+        if isinstance(t, MetricStruct):
+            factors.append(Metric(slot_to_sympy(t.a), slot_to_sympy(t.b)))
+        elif isinstance(t, Vector):
+            factors.append(FourVector(slot_to_sympy(t.momentum), slot_to_sympy(t.index)))
+        elif isinstance(t, DotStruct):
+            factors.append(Dot(slot_to_sympy(t.p), slot_to_sympy(t.q)))
+        elif isinstance(t, Epsilon):
+            factors.append(LeviCivita(*[slot_to_sympy(s) for s in t.slots_]))
+    for chain in structure.chains:
+        mat = _matrices_to_sympy(chain)
+        factors.append(Chain(chain.bar_leg, chain.leg, mat) if wrap_chains else mat)
+    return sympy.Mul(*factors) if factors else sympy.Integer(1)
+
+
+def parse_factor(text: str) -> sympy.Expr:
+    """Read a factor written by `str(vertex.factor)` back into sympy (our names only)."""
+    from sympy.parsing.sympy_parser import parse_expr
+
+    return parse_expr(text, local_dict=dict(NAMESPACE), evaluate=True)
+
+
+def to_latex(expr: sympy.Expr) -> str:
+    return sympy.latex(expr, symbol_names={**LATEX_NAMES, **_greek_symbol_names(expr)})
+
+
+def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
+    names: dict[sympy.Symbol, str] = {}
+    for s in expr.free_symbols:
+        text = str(s)
+        for prefix, tex in (("mu", r"\mu"), ("p", "p")):
+            if text.startswith(prefix) and text[len(prefix):].isdigit():
+                names[s] = f"{tex}_{{{text[len(prefix):]}}}"  # type: ignore[index]
+        if text.startswith("xi_"):
+            names[s] = rf"\xi_{{{text[3:]}}}"  # type: ignore[index]
+    return names
