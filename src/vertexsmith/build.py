@@ -17,12 +17,14 @@ import sympy
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
+from .groups import REPRESENTATION_ALIASES
 from .parse import parse_text
 
 # built-in objects of the Lagrangian and the number of indices each takes
 _DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
 _TENSORS = {"g": 2, "eps": 4}
 _DERIVATIVES = {"d": False, "D": True}
+_GROUP_TENSORS = {"T": (1, 3), "f": (3,), "delta": (2,)}
 _CONSTANTS = {"I": sympy.I, "pi": sympy.pi}
 _ALIASES = {"γ": "gamma", "γ5": "gamma5", "γ⁵": "gamma5", "σ": "sigma", "ε": "eps", "π": "pi",
             "∂": "d", "i": "I", "η": "g"}
@@ -69,6 +71,7 @@ class _Builder:
         self.groups: dict[str, m.GaugeGroup] = {}
         self.definitions: dict[str, m.Definition] = {}
         self.strengths: dict[str, str] = {}
+        self.groups_syntax = {g.name: g for g in syntax.gauges}
         self.declared: dict[str, tuple[str, Span]] = {}
 
     # ------------------------------------------------------------------ declarations
@@ -178,17 +181,39 @@ class _Builder:
             if charges and not is_complex:
                 raise ModelMeaningError(f"the real field '{f.name}' cannot carry a charge", f.charges[0].span,
                                         f"declare it complex: {f.kind} {f.name} complex ...")
+            representations: list[tuple[str, str]] = []
+            kinds = {g.name: g.group for g in self.syntax.gauges}
             for r in f.representations:
-                raise ModelMeaningError("group representations need a non-abelian group", r.span,
-                                        "U(1) fields take: charge GROUP VALUE")
-            self.fields[f.name] = m.Field(f.name, f.kind, is_complex, mass, tuple(charges), f.description, f.span)
+                if r.group not in kinds:
+                    raise ModelMeaningError(f"representation of an undeclared group '{r.group}'", r.span,
+                                            did_you_mean(r.group, kinds, "declare the group in the gauge section"))
+                if kinds[r.group] != "SU":
+                    raise ModelMeaningError(f"'{r.group}' is abelian: its fields carry a charge, not a representation",
+                                            r.span, f"write: charge {r.group} VALUE")
+                rep = REPRESENTATION_ALIASES.get(r.representation)
+                if rep is None:
+                    raise ModelMeaningError(f"unknown representation '{r.representation}'", r.span,
+                                            "write fundamental, antifundamental, adjoint (or leave a singlet out)")
+                if rep != "adjoint" and not is_complex:
+                    raise ModelMeaningError(f"a real field cannot sit in the {rep} representation", r.span,
+                                            f"declare it complex: {f.kind} {f.name} complex ...")
+                if any(g == r.group for g, _ in representations):
+                    raise ModelMeaningError(f"'{f.name}' is given two representations of '{r.group}'", r.span,
+                                            "give one representation per group")
+                representations.append((r.group, rep))
+            for g in self.syntax.gauges:
+                if g.boson == f.name and g.group == "SU":
+                    representations.append((g.name, "adjoint"))
+            self.fields[f.name] = m.Field(f.name, f.kind, is_complex, mass, tuple(charges), f.description, f.span,
+                                          tuple(representations))
 
     def _build_groups(self) -> None:
         for g in self.syntax.gauges:
             kind = f"{g.group}({g.rank})"
-            if kind not in ("U(1)",):
-                hint = "non-abelian groups are not supported yet; write U(1)"
-                raise ModelMeaningError(f"unknown gauge group '{kind}'", self._attr_span(g, "group"), hint)
+            rank = int(g.rank) if g.rank.isdigit() else 0
+            if not (kind == "U(1)" or (g.group == "SU" and rank >= 2)):
+                raise ModelMeaningError(f"unknown gauge group '{kind}'", self._attr_span(g, "group"),
+                                        "write U(1) or SU(N) with a whole N >= 2")
             for key in ("boson", "strength", "coupling"):
                 if getattr(g, key) is None:
                     raise ModelMeaningError(f"gauge group '{g.name}' needs a {key}", g.span,
@@ -206,8 +231,18 @@ class _Builder:
             if fixing not in ("lorenz", "none"):
                 raise ModelMeaningError(f"unknown gauge fixing '{fixing}'", self._attr_span(g, "fixing"),
                                         "write 'fixing lorenz' (R_xi, the default) or 'fixing none'")
-            self.groups[g.name] = m.GaugeGroup(g.name, "U1", g.boson or "", g.strength or "", coupling.symbol,
-                                               fixing, g.span)
+            if boson.charges or (boson.representations and g.group == "U"):
+                raise ModelMeaningError(f"the gauge boson '{g.boson}' cannot be charged", self._attr_span(g, "boson"),
+                                        "remove its charge or representation")
+            group = m.GaugeGroup(g.name, "U1" if g.group == "U" else "SU", g.boson or "", g.strength or "",
+                                 coupling.symbol, fixing, g.span, rank)
+            self.groups[g.name] = group
+            if not group.abelian and fixing == "lorenz":
+                # the Faddeev-Popov ghost of the Lorenz-type gauge fixing, an anticommuting adjoint scalar
+                self._declare(group.ghost, "ghost field", g.span)
+                self.fields[group.ghost] = m.Field(group.ghost, "ghost", True, sympy.Integer(0), (),
+                                                   f"Faddeev-Popov ghost of {g.name}", g.span,
+                                                   ((g.name, "adjoint"),))
 
     def _build_conventions(self) -> m.Conventions:
         covariant, eps = 1, -1
@@ -392,14 +427,39 @@ class _Builder:
         idx = tuple(i.name for i in node.indices)
         if name in self.fields:
             f = self.fields[name]
-            if f.is_vector:
-                self._check_index_count(node, 1, f"the vector field '{name}'", f"{name}[mu]")
-                return m.LField(name, False, idx[0], node.span)
-            self._check_index_count(node, 0, f"the {f.kind} field '{name}'", name)
-            return m.LField(name, False, None, node.span)
+            if f.kind == "ghost":
+                raise ModelMeaningError(f"the ghost '{name}' is generated from the gauge fixing", node.span,
+                                        "do not write ghost terms; they are derived automatically")
+            lorentz = 1 if f.is_vector else 0
+            groups = [g for g, _ in f.representations]
+            if len(idx) not in (lorentz, lorentz + len(groups)):
+                example = ", ".join((["mu"] if lorentz else []) + [_index_example(r) for _, r in f.representations])
+                if not groups:
+                    self._check_index_count(node, lorentz, f"the {f.kind} field '{name}'",
+                                            f"{name}[mu]" if lorentz else name)
+                raise ModelMeaningError(f"'{name}' takes {lorentz} Lorentz and {len(groups)} group indices, "
+                                        f"not {len(idx)} indices", node.span,
+                                        f"write {name}[{example}]" + (" (group indices may be left implied)"
+                                                                      if any(r != "adjoint" for _, r in f.representations)
+                                                                      else ""))
+            group_indices = tuple((g, idx[lorentz + k] if len(idx) > lorentz else None) for k, g in enumerate(groups))
+            for g, i in group_indices:
+                if i is None and f.representation(g) == "adjoint":
+                    raise ModelMeaningError(f"the adjoint index of '{name}' must be written", node.span,
+                                            f"write {name}[{', '.join((['mu'] if lorentz else []) + ['a'])}]")
+            return m.LField(name, False, idx[0] if lorentz else None, node.span, group_indices)
         if name in self.strengths:
+            group = self.groups_syntax[self.strengths[name]]
+            if group.group == "SU":
+                if len(idx) not in (2, 3):
+                    self._check_index_count(node, 3, f"the field strength '{name}'", f"{name}[mu,nu,a]")
+                return m.LStrength(self.strengths[name], (idx[0], idx[1]), node.span,
+                                   idx[2] if len(idx) == 3 else None)
             self._check_index_count(node, 2, f"the field strength '{name}'", f"{name}[mu,nu]")
             return m.LStrength(self.strengths[name], (idx[0], idx[1]), node.span)
+        group_tensor = self._group_tensor(node)
+        if group_tensor is not None:
+            return group_tensor
         if name in self.definitions:
             d = self.definitions[name]
             if len(idx) != len(d.indices):
@@ -437,9 +497,36 @@ class _Builder:
             raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
                                     f"write {name} without brackets")
         candidates = list(self.fields) + list(self.parameters) + list(self.definitions) + \
-            list(self.strengths) + list(_DIRAC) + list(_TENSORS) + list(_DERIVATIVES)
+            list(self.strengths) + list(_DIRAC) + list(_TENSORS) + list(_DERIVATIVES) + list(_GROUP_TENSORS)
         raise ModelMeaningError(f"unknown name '{name}'", node.span,
                                 did_you_mean(name, candidates, "declare it as a field or a parameter"))
+
+    def _group_tensor(self, node: sx.Symbol) -> m.LGroup | None:
+        """T[a], T[a,i,j], f[a,b,c], delta[i,j]; with several non-abelian groups T_color[a] etc."""
+        base, _, suffix = node.name.partition("_")
+        if base not in _GROUP_TENSORS or node.name in self.declared:
+            return None
+        non_abelian = sorted(g.name for g in self.syntax.gauges if g.group == "SU")
+        if suffix:
+            if suffix not in non_abelian:
+                raise ModelMeaningError(f"'{node.name}' names no non-abelian group", node.span,
+                                        did_you_mean(suffix, non_abelian, "declare an SU(N) group in the gauge section"))
+            group = suffix
+        elif len(non_abelian) == 1:
+            group = non_abelian[0]
+        elif not non_abelian:
+            raise ModelMeaningError(f"'{base}' needs a non-abelian gauge group", node.span,
+                                    "declare an SU(N) group in the gauge section")
+        else:
+            raise ModelMeaningError(f"'{base}' is ambiguous with several non-abelian groups", node.span,
+                                    f"name the group: {base}_{non_abelian[0]}[...]")
+        counts = _GROUP_TENSORS[base]
+        if len(node.indices) not in counts:
+            examples = {"T": "T[a] (a matrix between fields) or T[a,i,j]", "f": "f[a,b,c]", "delta": "delta[i,j]"}
+            span = node.indices[0].span if node.indices else node.span
+            raise ModelMeaningError(f"'{node.name}' takes {' or '.join(map(str, counts))} indices, "
+                                    f"not {len(node.indices)}", span, f"write {examples[base]}")
+        return m.LGroup(base, group, tuple(i.name for i in node.indices), node.span)
 
     def _call(self, node: sx.Call) -> m.LNode:
         arg = node.argument
@@ -453,8 +540,9 @@ class _Builder:
                 raise ModelMeaningError(f"bar() of the {f.kind} '{f.name}': only fermions have a Dirac adjoint",
                                         node.span, f"for a boson write dag({f.name})" if f.is_complex
                                         else f"'{f.name}' is real: write {f.name}")
-            self._check_index_count(arg, 0, f"the fermion '{f.name}'", f"bar({f.name})")
-            return m.LField(f.name, True, None, node.span)
+            inner = self._symbol(arg)
+            assert isinstance(inner, m.LField)
+            return m.LField(f.name, True, None, node.span, inner.group_indices)
         if node.function == "dag":
             if isinstance(arg, sx.Symbol) and arg.name in self.fields:
                 f = self.fields[arg.name]
@@ -466,7 +554,7 @@ class _Builder:
                                             f"write {f.name}, or declare it complex")
                 inner = self._symbol(arg)
                 assert isinstance(inner, m.LField)
-                return m.LField(f.name, True, inner.index, node.span)
+                return m.LField(f.name, True, inner.index, node.span, inner.group_indices)
             for s in _walk(arg):
                 if isinstance(s, sx.Call) and s.function == "bar":
                     raise ModelMeaningError("dag() of an expression with a fermion", node.span,
@@ -530,6 +618,10 @@ class _Builder:
                     if i.name == index:
                         return i.span
         return None
+
+
+def _index_example(representation: str) -> str:
+    return "a" if representation == "adjoint" else "i"
 
 
 def _span_of(node: sx.Expr) -> Span:

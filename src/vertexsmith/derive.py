@@ -19,11 +19,12 @@ import sympy
 
 from . import model as m
 from .errors import DerivationError, Span, UsageError
-from .expand import DiracAtom, FieldAtom, Monomial, TensorAtom, expand_model
+from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom, expand_model
+from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, LegIndex, Metric, Momentum, Sigma, Slot,
-                         Structure, Vector, canonical_structure, momentum_slots, replace_slot,
-                         structure_sort_key)
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+                         LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
+                         Vector, canonical_structure, momentum_slots, replace_slot, structure_sort_key)
 
 GAUGES = ("xi", "feynman", "unitary")
 Species = tuple[str, bool]
@@ -37,8 +38,8 @@ def species_of(model: m.Model, atom: FieldAtom) -> Species:
 
 def _species_order(model: m.Model, s: Species) -> tuple:
     f = model.fields[s[0]]
-    kind = {"dirac": 0, "majorana": 0, "scalar": 1, "vector": 2, "ghost": 3}[f.kind]
-    return (kind, s[0], s[1])
+    kind = {"dirac": 0, "majorana": 0, "ghost": 1, "scalar": 2, "vector": 3}[f.kind]
+    return (kind, s[0], not s[1] if f.kind == "ghost" else s[1])
 
 
 def canonical_legs(model: m.Model, species: Iterable[Species]) -> list[Species]:
@@ -59,8 +60,12 @@ def canonical_legs(model: m.Model, species: Iterable[Species]) -> list[Species]:
 
 
 def make_legs(model: m.Model, species: list[Species]) -> tuple[Leg, ...]:
-    return tuple(Leg(k + 1, s[0], s[1], model.fields[s[0]].kind, model.fields[s[0]].is_grassmann)
-                 for k, s in enumerate(species))
+    legs = []
+    for k, s in enumerate(species):
+        f = model.fields[s[0]]
+        reps = tuple((g, rep, dimension(model.groups[g].rank, rep)) for g, rep in f.representations)
+        legs.append(Leg(k + 1, s[0], s[1], f.kind, f.is_grassmann, reps))
+    return tuple(legs)
 
 
 # ------------------------------------------------------------------ one monomial, one leg list
@@ -142,12 +147,25 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
             for d in atom.derivatives:
                 factor *= -sympy.I
                 ends[d].append(("mom", leg))
+            for group, index in atom.group_indices:
+                rep = model.fields[atom.field].representation(group)
+                ends[index or ""].append(("gleg", leg, group, _index_space(rep)))
         elif isinstance(atom, TensorAtom) and atom.kind == "g":
             a, b = atom.indices
             if a == b:
                 factor *= 4
             else:
                 uf.union(a, b)
+        elif isinstance(atom, GroupAtom) and atom.kind == "delta":
+            a, b = atom.indices
+            if a == b:
+                raise DerivationError("delta with a repeated index is the dimension of the group space", atom.span,
+                                      "write the dimension as a number")
+            uf.union(a, b)
+        elif isinstance(atom, GroupAtom):
+            spaces = ("adjoint", "fundamental", "fundamental") if atom.kind == "T" else ("adjoint",) * 3
+            for n, index in enumerate(atom.indices):
+                ends[index].append(("gslot", k, n, atom.group, spaces[n]))
         else:
             for n, index in enumerate(atom.indices):
                 ends[index].append(("slot", k, n))
@@ -158,11 +176,24 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
         factor *= 4  # a closed loop of metrics: g^mu_mu = 4
     fill: dict[tuple[int, int], Slot] = {}
     tensors: list = []
+    group_tensors: list = []
     for root, items in sorted(lines.items()):
         if len(items) != 2:
             raise DerivationError(f"index '{root.split('#')[0]}' appears {len(items)} times in a monomial",
                                   mono.origin, "every Lorentz index in a term appears exactly twice")
-        (k1, *r1), (k2, *r2) = items
+        group_ends = [it for it in items if it[0] in ("gleg", "gslot")]
+        if group_ends:
+            _check_index_line(root, items, mono)
+            values_g = [LegGroupIndex(it[1], it[2]) for it in group_ends if it[0] == "gleg"]
+            slots_g = [it for it in group_ends if it[0] == "gslot"]
+            if len(values_g) == 2:
+                group_tensors.append(GroupDelta(group_ends[0][2], (values_g[0], values_g[1])))
+            elif len(values_g) == 1:
+                fill[(slots_g[0][1], slots_g[0][2])] = values_g[0]
+            else:
+                for it in slots_g:
+                    fill[(it[1], it[2])] = GroupDummy(root)
+            continue
         providers = [it for it in items if it[0] in ("leg", "mom")]
         slots = [it for it in items if it[0] == "slot"]
         values = [LegIndex(it[1]) if it[0] == "leg" else Momentum.of(it[1]) for it in providers]
@@ -186,7 +217,12 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
     open_bar: int | None = None
     matrices: list = []
     for k, atom in enumerate(mono.atoms):
-        if isinstance(atom, TensorAtom):
+        if isinstance(atom, GroupAtom):
+            if atom.kind == "T":
+                group_tensors.append(Generator(atom.group, tuple(fill[(k, n)] for n in range(3))))  # type: ignore
+            elif atom.kind == "f":
+                group_tensors.append(StructureConstant(atom.group, tuple(fill[(k, n)] for n in range(3))))  # type: ignore
+        elif isinstance(atom, TensorAtom):
             if atom.kind == "eps":
                 tensors.append(Epsilon(tuple(fill[(k, n)] for n in range(4))))  # type: ignore[arg-type]
         elif isinstance(atom, DiracAtom):
@@ -205,8 +241,30 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
                 assert open_bar is not None
                 chains.append(Chain(open_bar, mapping[k], tuple(matrices)))
                 open_bar = None
-    sign, structure = canonical_structure(Structure(tuple(tensors), tuple(chains)))
+    sign, structure = canonical_structure(Structure(tuple(tensors), tuple(chains), tuple(group_tensors)))
     return factor * sign, structure
+
+
+def _index_space(representation: str | None) -> str:
+    return "adjoint" if representation == "adjoint" else "fundamental"
+
+
+def _check_index_line(root: str, items: list[tuple], mono: Monomial) -> None:
+    """Both ends of a contracted index must live in the same space of the same group."""
+    name = root.split("#")[0]
+    if any(it[0] in ("leg", "mom", "slot") for it in items):
+        raise DerivationError(f"index '{name}' is used both as a Lorentz index and as a group index", mono.origin,
+                              "give Lorentz and group indices different names")
+    spaces = {(it[-2], it[-1]) for it in items}
+    if len({g for g, _ in spaces}) > 1:
+        raise DerivationError(f"index '{name}' joins indices of different groups "
+                              f"({', '.join(sorted(g for g, _ in spaces))})", mono.origin,
+                              "contract each group's indices among themselves")
+    if len(spaces) > 1:
+        raise DerivationError(f"index '{name}' joins an adjoint and a fundamental index of "
+                              f"{next(iter(spaces))[0]}", mono.origin,
+                              "an adjoint index (a, b, c) contracts with an adjoint index, "
+                              "a fundamental one (i, j) with a fundamental one")
 
 
 def check_chains(model: m.Model, mono: Monomial) -> None:
@@ -324,9 +382,32 @@ def _gauge_fixing(model: m.Model, group: m.GaugeGroup, gauge: str) -> list[Monom
     if gauge == "unitary" and boson.mass != 0:
         return []
     xi = group.xi if gauge == "xi" else sympy.Integer(1)
-    atoms = (FieldAtom(group.boson, False, "gf1", ("gf1",), group.span),
-             FieldAtom(group.boson, False, "gf2", ("gf2",), group.span))
+    adjoint = () if group.abelian else ((group.name, "gfa"),)
+    atoms = (FieldAtom(group.boson, False, "gf1", ("gf1",), group.span, adjoint),
+             FieldAtom(group.boson, False, "gf2", ("gf2",), group.span, adjoint))
     return [Monomial(-1 / (2 * xi), atoms, group.span)]
+
+
+def ghost_monomials(model: m.Model) -> list[Monomial]:
+    """Faddeev-Popov ghost terms of every non-abelian group with Lorenz-type gauge fixing.
+
+    L = bar(c)^a (-d^mu D_mu^{ac}) c^c with the adjoint D_mu^{ac} = d_mu delta^{ac} + s g f^{abc} A^b_mu
+    (s = +1 for D = d - i g T A), integrated by parts: d bar(c).d c + s g f^{abc} (d^mu bar(c)^a) A^b_mu c^c.
+    """
+    out: list[Monomial] = []
+    for group in model.groups.values():
+        if group.abelian or group.fixing != "lorenz":
+            continue
+        gh, name = group.ghost, group.name
+        kinetic = (FieldAtom(gh, True, None, ("m",), group.span, ((name, "a"),)),
+                   FieldAtom(gh, False, None, ("m",), group.span, ((name, "a"),)))
+        out.append(Monomial(sympy.Integer(1), kinetic, group.span))
+        interaction = (GroupAtom("f", name, ("a", "b", "c"), group.span),
+                       FieldAtom(gh, True, None, ("m",), group.span, ((name, "a"),)),
+                       FieldAtom(group.boson, False, "m", (), group.span, ((name, "b"),)),
+                       FieldAtom(gh, False, None, (), group.span, ((name, "c"),)))
+        out.append(Monomial(model.conventions.covariant_sign * group.coupling, interaction, group.span))
+    return out
 
 
 def _two_point(model: m.Model, species: list[Species], monomials: list[Monomial]) -> tuple[Leg, ...] | None:
@@ -355,6 +436,9 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
         pairs.extend(monomial_terms(model, mono, legs))
     kernel: dict[str, sympy.Expr] = defaultdict(lambda: sympy.Integer(0))  # Gamma_2 / i
     for coefficient, structure in pairs:
+        if any(not isinstance(g, GroupDelta) for g in structure.group):
+            raise DerivationError(f"the quadratic terms of '{f.name}' are not diagonal in its group indices", f.span,
+                                  "write its kinetic and mass terms with the group indices contracted")
         c = coefficient / sympy.I
         value = c
         key = "one"
@@ -386,11 +470,12 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
             key = "pp"
         kernel[key] += value
     kernel = {k: sympy.factor(sympy.expand(v)) for k, v in kernel.items()}
-    if f.kind == "scalar":
+    if f.kind in ("scalar", "ghost"):
         k = kernel.get("one", sympy.Integer(0))
         if k == 0:
             raise _no_kernel(f)
-        return Propagator(f.name, "scalar", sympy.factor(sympy.I / k), sympy.Integer(0), gauge, model)
+        return Propagator(f.name, "scalar", sympy.factor(sympy.I / k), sympy.Integer(0), gauge, model,
+                          _propagator_reps(model, f))
     if f.is_fermion:
         a, b = kernel.get("slash", sympy.Integer(0)), kernel.get("one", sympy.Integer(0))
         denominator = sympy.factor(a**2 * P2 - b**2)
@@ -398,7 +483,7 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
             raise _no_kernel(f)
         # (a pslash + b)^-1 = (a pslash - b) / (a^2 p^2 - b^2)
         return Propagator(f.name, "dirac", sympy.factor(sympy.I * a / denominator),
-                          sympy.factor(-sympy.I * b / denominator), gauge, model)
+                          sympy.factor(-sympy.I * b / denominator), gauge, model, _propagator_reps(model, f))
     a, b = kernel.get("metric", sympy.Integer(0)), kernel.get("pp", sympy.Integer(0))
     longitudinal = sympy.factor(a + b * P2)
     if a == 0 or longitudinal == 0:
@@ -407,7 +492,11 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
         raise DerivationError(f"the quadratic kernel of '{f.name}' cannot be inverted", f.span, hint)
     # (a g + b p p)^-1 = g / a - b p p / (a (a + b p^2))
     return Propagator(f.name, "vector", sympy.factor(sympy.I / a),
-                      sympy.factor(-sympy.I * b / (a * longitudinal)), gauge, model)
+                      sympy.factor(-sympy.I * b / (a * longitudinal)), gauge, model, _propagator_reps(model, f))
+
+
+def _propagator_reps(model: m.Model, f: m.Field) -> tuple[tuple[str, str, int], ...]:
+    return tuple((g, rep, dimension(model.groups[g].rank, rep)) for g, rep in f.representations)
 
 
 def _no_kernel(f: m.Field) -> DerivationError:
@@ -421,7 +510,7 @@ def derive_rules(model: m.Model, gauge: str = "xi") -> Rules:
     """Every vertex (three or more legs) and every propagator of a model."""
     if gauge not in GAUGES:
         raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
-    monomials = list(expand_model(model))
+    monomials = list(expand_model(model)) + ghost_monomials(model)
     for mono in monomials:
         check_chains(model, mono)
     groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)

@@ -31,6 +31,10 @@ class FieldAtom:
     index: str | None
     derivatives: tuple[str, ...]
     span: Span = field(compare=False)
+    group_indices: tuple[tuple[str, str | None], ...] = ()  # (group, index); None until implied ones are fixed
+
+    def group_index(self, group: str) -> str | None:
+        return dict(self.group_indices).get(group)
 
 
 @dataclass(frozen=True)
@@ -51,7 +55,17 @@ class TensorAtom:
     span: Span = field(compare=False)
 
 
-Atom = Union[FieldAtom, DiracAtom, TensorAtom]
+@dataclass(frozen=True)
+class GroupAtom:
+    """A group tensor of a non-abelian group: T (indices (a,) inside a chain, or (a, i, j)), f, delta."""
+
+    kind: str
+    group: str
+    indices: tuple[str, ...]
+    span: Span = field(compare=False)
+
+
+Atom = Union[FieldAtom, DiracAtom, TensorAtom, GroupAtom]
 
 
 @dataclass(frozen=True)
@@ -100,6 +114,9 @@ class _Expander:
                 kind, sign = _CONJUGATE_DIRAC[atom.kind]
                 coefficient = coefficient * sign
                 atoms.append(replace(atom, kind=kind))
+            elif isinstance(atom, GroupAtom) and atom.kind == "T" and len(atom.indices) == 3:
+                a, i, j = atom.indices  # (T^a_ij)* = T^a_ji: generators are hermitian
+                atoms.append(replace(atom, indices=(a, j, i)))
             else:
                 atoms.append(atom)
         return _Partial(coefficient, tuple(atoms))
@@ -111,7 +128,9 @@ class _Expander:
             for a in p.atoms:
                 if isinstance(a, FieldAtom):
                     atoms.append(replace(a, index=mapping(a.index) if a.index else None,
-                                         derivatives=tuple(mapping(i) for i in a.derivatives)))
+                                         derivatives=tuple(mapping(i) for i in a.derivatives),
+                                         group_indices=tuple((g, mapping(i) if i else None)
+                                                             for g, i in a.group_indices)))
                 else:
                     atoms.append(replace(a, indices=tuple(mapping(i) for i in a.indices)))
             pending = tuple(replace(op, index=mapping(op.index)) for op in p.pending)
@@ -148,6 +167,9 @@ class _Expander:
         if op.covariant:
             sign = self.model.conventions.covariant_sign
             for group in self.model.groups.values():
+                if not group.abelian:
+                    out.extend(self._non_abelian_terms(op, p, group, sign))
+                    continue
                 charge = sum((self.model.fields[a.field].charge(group.name) * (-1 if a.conjugate else 1)
                               for a in p.atoms if isinstance(a, FieldAtom)), start=0)
                 if charge == 0:
@@ -155,6 +177,45 @@ class _Expander:
                 q = sympy.Rational(charge.numerator, charge.denominator)
                 boson = FieldAtom(group.boson, False, op.index, (), op.span)
                 out.append(_Partial(p.coefficient * (-sympy.I * sign * group.coupling * q), (boson,) + p.atoms))
+        return out
+
+    def _non_abelian_terms(self, op: m.LDerivative, p: _Partial, group: m.GaugeGroup,
+                           sign: int) -> list[_Partial]:
+        """-i s g A^a T^a on every field of the operand in a representation of the group.
+
+        A field acting as a column (an unconjugated fundamental) gets T^a before it; a row
+        (a conjugated fundamental, or an antifundamental) gets T^a after it, with the opposite
+        sign of i; an adjoint field gets s g f^{abc} A^b (its own index a, new index c).
+        """
+        out: list[_Partial] = []
+        g = group.coupling
+        for k, atom in enumerate(p.atoms):
+            if not isinstance(atom, FieldAtom):
+                continue
+            rep = self.model.fields[atom.field].representation(group.name)
+            if rep is None:
+                continue
+            a = self.fresh("a")
+            boson = FieldAtom(group.boson, False, op.index, (), op.span, ((group.name, a),))
+            index = atom.group_index(group.name)
+            if rep == "adjoint":
+                c = self.fresh("c")
+                moved = replace(atom, group_indices=_set_group_index(atom, group.name, c))
+                f_atom = GroupAtom("f", group.name, (index or "", a, c), op.span)
+                atoms = (boson, f_atom) + p.atoms[:k] + (moved,) + p.atoms[k + 1:]
+                out.append(_Partial(p.coefficient * sign * g, atoms))
+                continue
+            row = atom.conjugate == (rep == "fundamental")
+            coefficient = p.coefficient * (sympy.I if row else -sympy.I) * sign * g
+            if index is None:
+                t_atom = GroupAtom("T", group.name, (a,), op.span)
+                inserted = (atom, t_atom) if row else (t_atom, atom)
+                out.append(_Partial(coefficient, (boson,) + p.atoms[:k] + inserted + p.atoms[k + 1:]))
+            else:
+                j = self.fresh("j")
+                moved = replace(atom, group_indices=_set_group_index(atom, group.name, j))
+                t_atom = GroupAtom("T", group.name, (a, j, index) if row else (a, index, j), op.span)
+                out.append(_Partial(coefficient, (boson, t_atom) + p.atoms[:k] + (moved,) + p.atoms[k + 1:]))
         return out
 
     # ------------------------------------------------------------------ expansion
@@ -179,7 +240,10 @@ class _Expander:
         if isinstance(node, m.LScalar):
             return [_Partial(node.value, ())]
         if isinstance(node, m.LField):
-            return [_Partial(sympy.Integer(1), (FieldAtom(node.field, node.conjugate, node.index, (), node.span),))]
+            return [_Partial(sympy.Integer(1), (FieldAtom(node.field, node.conjugate, node.index, (), node.span,
+                                                          node.group_indices),))]
+        if isinstance(node, m.LGroup):
+            return [_Partial(sympy.Integer(1), (GroupAtom(node.kind, node.group, node.indices, node.span),))]
         if isinstance(node, m.LDirac):
             return [_Partial(sympy.Integer(1), (DiracAtom(node.kind, node.indices, node.span),))]
         if isinstance(node, m.LTensor):
@@ -189,9 +253,21 @@ class _Expander:
         if isinstance(node, m.LStrength):
             group = self.model.groups[node.group]
             mu, nu = node.indices
-            a = FieldAtom(group.boson, False, nu, (mu,), node.span)
-            b = FieldAtom(group.boson, False, mu, (nu,), node.span)
-            return [_Partial(sympy.Integer(1), (a,)), _Partial(sympy.Integer(-1), (b,))]
+            if group.abelian:
+                a = FieldAtom(group.boson, False, nu, (mu,), node.span)
+                b = FieldAtom(group.boson, False, mu, (nu,), node.span)
+                return [_Partial(sympy.Integer(1), (a,)), _Partial(sympy.Integer(-1), (b,))]
+            # F^a = d A^a - d A^a + s g f^{abc} A^b A^c; an implied adjoint index is paired later
+            index = node.group_index or self.fresh("@adj")
+            adjoint = ((group.name, index),)
+            a = FieldAtom(group.boson, False, nu, (mu,), node.span, adjoint)
+            b = FieldAtom(group.boson, False, mu, (nu,), node.span, adjoint)
+            ib, ic = self.fresh("b"), self.fresh("c")
+            f_atom = GroupAtom("f", group.name, (index, ib, ic), node.span)
+            quadratic = (f_atom, FieldAtom(group.boson, False, mu, (), node.span, ((group.name, ib),)),
+                         FieldAtom(group.boson, False, nu, (), node.span, ((group.name, ic),)))
+            s_g = self.model.conventions.covariant_sign * group.coupling
+            return [_Partial(sympy.Integer(1), (a,)), _Partial(sympy.Integer(-1), (b,)), _Partial(s_g, quadratic)]
         if isinstance(node, m.LDefinitionUse):
             definition = self.model.definitions[node.name]
             if node.name not in self._definition_cache:
@@ -243,10 +319,85 @@ def _canonical_indices(atoms: tuple[Atom, ...]) -> tuple[Atom, ...]:
     for a in atoms:
         if isinstance(a, FieldAtom):
             out.append(replace(a, index=rename(a.index) if a.index else None,
-                               derivatives=tuple(rename(i) for i in a.derivatives)))
+                               derivatives=tuple(rename(i) for i in a.derivatives),
+                               group_indices=tuple((g, rename(i) if i else None) for g, i in a.group_indices)))
         else:
             out.append(replace(a, indices=tuple(rename(i) for i in a.indices)))
     return tuple(out)
+
+
+def _set_group_index(atom: FieldAtom, group: str, index: str) -> tuple[tuple[str, str | None], ...]:
+    return tuple((g, index if g == group else i) for g, i in atom.group_indices)
+
+
+def _implied_group_indices(model: m.Model, atoms: tuple[Atom, ...], expander: "_Expander",
+                           span: Span) -> tuple[Atom, ...]:
+    """Write implied group indices out: row ... T^a T^b ... column chains, and pairs of implied adjoints.
+
+    A conjugated fundamental (bar(q), dag(phi)) or an unconjugated antifundamental opens a chain,
+    matrices T[a] extend it, and the next field acting as a column closes it.
+    """
+    result = list(atoms)
+    for group in model.groups.values():
+        if group.abelian:
+            continue
+        open_at: int | None = None
+        current = ""
+        for k, atom in enumerate(result):
+            if isinstance(atom, GroupAtom) and atom.group == group.name and atom.kind == "T" and len(atom.indices) == 1:
+                if open_at is None:
+                    raise ModelMeaningError("the generator T stands outside a row ... column product", atom.span,
+                                            "write T[a] between a conjugated and an unconjugated field, "
+                                            "as in bar(q) gamma[mu] T[a] q, or give it indices T[a,i,j]")
+                nxt = expander.fresh("i")
+                result[k] = replace(atom, indices=(atom.indices[0], current, nxt))
+                current = nxt
+                continue
+            if not isinstance(atom, FieldAtom):
+                continue
+            rep = model.fields[atom.field].representation(group.name)
+            if rep in (None, "adjoint") or atom.group_index(group.name) is not None:
+                continue
+            row = atom.conjugate == (rep == "fundamental")
+            if row:
+                if open_at is not None:
+                    raise ModelMeaningError(f"two conjugated {group.name} fields in a row: the implied "
+                                            "contraction is ambiguous", atom.span,
+                                            "write the group indices out, e.g. dag(phi[i]) phi[i]")
+                current = expander.fresh("i")
+                open_at = k
+                result[k] = replace(atom, group_indices=_set_group_index(atom, group.name, current))
+            else:
+                if open_at is None:
+                    raise ModelMeaningError(f"'{atom.field}' has no conjugated {group.name} partner before it",
+                                            atom.span, "write the conjugated field first, as in bar(q) q, "
+                                            "or write the group indices out")
+                result[k] = replace(atom, group_indices=_set_group_index(atom, group.name, current))
+                open_at = None
+        if open_at is not None:
+            atom = result[open_at]
+            raise ModelMeaningError(f"the implied {group.name} index of this field is not contracted",
+                                    atom.span, "close the product with an unconjugated field, or write indices out")
+        # implied adjoint indices of field strengths pair up
+        implied = [k for k, atom in enumerate(result) if isinstance(atom, FieldAtom)
+                   and (atom.group_index(group.name) or "").startswith("@adj")]
+        names = sorted({result[k].group_index(group.name) for k in implied})  # type: ignore[union-attr, type-var]
+        f_names = {a.indices[0] for a in result if isinstance(a, GroupAtom) and a.kind == "f"
+                   and a.indices[0].startswith("@adj")}
+        names = sorted(set(names) | f_names)
+        if names:
+            if len(names) != 2:
+                raise ModelMeaningError(f"implied adjoint indices of {group.name} pair up only between two field "
+                                        "strengths", span, "write the adjoint indices out, e.g. F[mu,nu,a] F[mu,nu,a]")
+            shared = expander.fresh("a")
+            rename = {names[0]: shared, names[1]: shared}
+            for k, atom in enumerate(result):
+                if isinstance(atom, FieldAtom):
+                    result[k] = replace(atom, group_indices=tuple((g, rename.get(i, i) if i else None)
+                                                                  for g, i in atom.group_indices))
+                elif isinstance(atom, GroupAtom):
+                    result[k] = replace(atom, indices=tuple(rename.get(i, i) for i in atom.indices))
+    return tuple(result)
 
 
 def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = None) -> list[Monomial]:
@@ -262,7 +413,8 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
         if sum(isinstance(a, FieldAtom) for a in p.atoms) > MAX_FIELDS_PER_MONOMIAL:
             raise DerivationError(f"a monomial of this term has more than {MAX_FIELDS_PER_MONOMIAL} fields",
                                   term.span, "vertices with at most 12 legs are supported")
-        key = _canonical_indices(p.atoms)
+        atoms = _implied_group_indices(model, p.atoms, expander, term.span) if model.has_non_abelian else p.atoms
+        key = _canonical_indices(atoms)
         combined[key] = combined.get(key, sympy.Integer(0)) + p.coefficient
     out = []
     for atoms, coefficient in combined.items():

@@ -55,6 +55,10 @@ class Field:
     charges: tuple[tuple[str, Fraction], ...]
     description: str
     span: Span = field(compare=False)
+    representations: tuple[tuple[str, str], ...] = ()  # (group, fundamental|antifundamental|adjoint)
+
+    def representation(self, group: str) -> str | None:
+        return dict(self.representations).get(group)
 
     @property
     def is_fermion(self) -> bool:
@@ -82,12 +86,22 @@ class GaugeGroup:
     """A gauge group factor with its boson, field-strength name, coupling and gauge fixing."""
 
     name: str
-    kind: str  # "U1"
+    kind: str  # "U1" or "SU"
     boson: str
     strength: str
     coupling: sympy.Expr
     fixing: str  # "lorenz" (R_xi, added automatically) or "none"
     span: Span = field(compare=False)
+    rank: int = 1  # N of SU(N)
+
+    @property
+    def abelian(self) -> bool:
+        return self.kind == "U1"
+
+    @property
+    def ghost(self) -> str:
+        """Name of the Faddeev-Popov ghost field of a non-abelian group."""
+        return f"gh_{self.boson}"
 
     @property
     def xi(self) -> sympy.Symbol:
@@ -115,9 +129,22 @@ class LScalar:
 
 @dataclass(frozen=True)
 class LField:
+    """A field factor; group_indices gives (group, index or None when implied by matrix contraction)."""
+
     field: str
     conjugate: bool
     index: str | None
+    span: Span = field(compare=False)
+    group_indices: tuple[tuple[str, str | None], ...] = ()
+
+
+@dataclass(frozen=True)
+class LGroup:
+    """A group tensor: generator T (1 index: a matrix in a chain; or 3: T[a,i,j]), f[a,b,c], delta[i,j]."""
+
+    kind: str
+    group: str
+    indices: tuple[str, ...]
     span: Span = field(compare=False)
 
 
@@ -155,6 +182,7 @@ class LStrength:
     group: str
     indices: tuple[str, str]
     span: Span = field(compare=False)
+    group_index: str | None = None  # adjoint index of a non-abelian strength (None: implied)
 
 
 @dataclass(frozen=True)
@@ -192,7 +220,7 @@ class LDagger:
     span: Span = field(compare=False)
 
 
-LNode = Union[LScalar, LField, LDirac, LTensor, LDerivative, LStrength, LDefinitionUse, LSum,
+LNode = Union[LScalar, LField, LGroup, LDirac, LTensor, LDerivative, LStrength, LDefinitionUse, LSum,
               LProduct, LPower, LDagger]
 
 
@@ -243,6 +271,10 @@ class Model:
         from .build import resolve_values
 
         return resolve_values(self, overrides or {})
+
+    @property
+    def has_non_abelian(self) -> bool:
+        return any(not g.abelian for g in self.groups.values())
 
     def boson_group(self, field_name: str) -> GaugeGroup | None:
         return next((g for g in self.groups.values() if g.boson == field_name), None)

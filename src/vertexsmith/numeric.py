@@ -13,8 +13,9 @@ from typing import Sequence
 
 import numpy as np
 
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, LegIndex, Metric, Momentum, Sigma, Slot,
-                         Structure, Vector)
+from .groups import su_generators, su_structure_constants
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+                         LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
 
 METRIC = np.diag([1.0, -1.0, -1.0, -1.0]).astype(complex)
 _PAULI = [np.array([[0, 1], [1, 0]], dtype=complex), np.array([[0, -1j], [1j, 0]], dtype=complex),
@@ -83,9 +84,16 @@ def momentum_value(momentum: Momentum, momenta: np.ndarray) -> np.ndarray:
     return total
 
 
-def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple[int, str]], momenta: np.ndarray,
-                       eps0123: int) -> np.ndarray:
-    """The tensor of one structure with axes in leg order; leg_axes is [(leg, 'lorentz'|'spinor'), ...]."""
+def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta: np.ndarray,
+                       eps0123: int, ranks: dict[str, int] | None = None,
+                       leg_dims: dict[tuple[int, str], int] | None = None) -> np.ndarray:
+    """The tensor of one structure with axes in leg order.
+
+    leg_axes lists label keys: ("lorentz", leg), ("spinor", leg), ("group", leg, group); ranks gives N of
+    each SU(N) group.
+    """
+    ranks = ranks or {}
+    leg_dims = leg_dims or {}
     labels = _Labels()
     operands: list[np.ndarray] = []
     subscripts: list[str] = []
@@ -126,7 +134,25 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple[int, str]]
             subscripts.append("".join(slot_label(s) for s in tensor.slots_))
     for chain in structure.chains:
         _chain_operands(chain, labels, operands, subscripts, slot_label, momenta)
-    output = "".join(labels.of((kind, leg)) for leg, kind in leg_axes)
+
+    def group_label(slot: Slot) -> str:
+        if isinstance(slot, LegGroupIndex):
+            return labels.of(("group", slot.leg, slot.group))
+        assert isinstance(slot, GroupDummy)
+        return labels.of(("group-dummy", slot.name))
+
+    for g in structure.group:
+        n = ranks[g.group]
+        if isinstance(g, StructureConstant):
+            operands.append(su_structure_constants(n).astype(complex))
+        elif isinstance(g, Generator):
+            operands.append(su_generators(n))
+        else:
+            first = g.slots_[0]
+            dim = leg_dims.get((first.leg, first.group), n) if isinstance(first, LegGroupIndex) else n
+            operands.append(np.eye(dim, dtype=complex))
+        subscripts.append("".join(group_label(x) for x in g.slots_))
+    output = "".join(labels.of(key) for key in leg_axes)
     if not operands:
         return np.array(scalar, dtype=complex)
     expression = ",".join(subscripts) + "->" + output

@@ -7,7 +7,7 @@ numbers in the documented array layout.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import TYPE_CHECKING, Mapping, Sequence
 
@@ -17,7 +17,8 @@ import sympy
 from .errors import UsageError, did_you_mean
 from .numeric import GAMMA, METRIC, IDENTITY4, evaluate_structure, lower, minkowski_dot, slash
 from .structures import Structure, relabel_legs, structure_sort_key
-from .symbolic import FourVector, Metric, Slash, index_symbol, lorentz_to_sympy, momentum_symbol, to_latex
+from .symbolic import (FourVector, GroupDelta, Metric, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
+                       momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
     from .model import Model
@@ -40,15 +41,16 @@ class Leg:
     position: int
     field: str
     conjugate: bool
-    kind: str  # scalar, dirac, vector
+    kind: str  # scalar, dirac, vector, ghost
     grassmann: bool
+    representations: tuple[tuple[str, str, int], ...] = ()  # (group, representation, dimension)
 
     @property
     def label(self) -> str:
         """The leg as written in the model language: bar(chi), dag(s), X."""
         if not self.conjugate:
             return self.field
-        return f"bar({self.field})" if self.kind in ("dirac", "majorana") else f"dag({self.field})"
+        return f"bar({self.field})" if self.kind in ("dirac", "majorana", "ghost") else f"dag({self.field})"
 
     @property
     def momentum(self) -> str:
@@ -56,24 +58,32 @@ class Leg:
 
     @property
     def indices(self) -> tuple[str, ...]:
-        """Index names of this leg's numeric axes: mu_k (Lorentz, upper), s_k (spinor)."""
+        """Index names of this leg's numeric axes: mu_k (Lorentz, upper), s_k (spinor), a_k / i_k (group)."""
+        names: list[str] = []
         if self.kind == "vector":
-            return (f"mu{self.position}",)
+            names.append(f"mu{self.position}")
         if self.kind in ("dirac", "majorana"):
-            return (f"s{self.position}",)
-        return ()
+            names.append(f"s{self.position}")
+        names.extend(group_index_name(self.position, group, rep, len(self.representations) > 1)
+                     for group, rep, _ in self.representations)
+        return tuple(names)
 
     @property
-    def axes(self) -> tuple[tuple[int, str], ...]:
+    def axes(self) -> tuple[tuple, ...]:
+        """Label keys of this leg's numeric axes, in layout order."""
+        keys: list[tuple] = []
         if self.kind == "vector":
-            return ((self.position, "lorentz"),)
+            keys.append(("lorentz", self.position))
         if self.kind in ("dirac", "majorana"):
-            return ((self.position, "spinor"),)
-        return ()
+            keys.append(("spinor", self.position))
+        keys.extend(("group", self.position, group) for group, _, _ in self.representations)
+        return tuple(keys)
 
     def meaning(self) -> str:
         """What this leg stands for as an incoming or outgoing particle."""
         name = self.field
+        if self.kind == "ghost":
+            return f"outgoing ghost {name}" if self.conjugate else f"incoming ghost {name}"
         if self.kind in ("dirac", "majorana"):
             if self.conjugate:
                 return f"outgoing {name} or incoming anti-{name}"
@@ -83,6 +93,12 @@ class Leg:
         if self.kind == "vector" and self.field:
             return f"{name} in or out" if not self.grassmann else name
         return f"{name} in or out" if self.field else name
+
+
+def group_index_name(position: int, group: str, representation: str, qualify: bool) -> str:
+    """a3 for an adjoint index of leg 3, i3 for a fundamental one; with several groups a3_color."""
+    letter = "a" if representation == "adjoint" else "i"
+    return f"{letter}{position}_{group}" if qualify else f"{letter}{position}"
 
 
 @dataclass(frozen=True)
@@ -99,6 +115,7 @@ class CouplingPart:
 
     coupling: sympy.Expr
     lorentz: sympy.Expr
+    group: sympy.Expr
     terms: tuple[VertexTerm, ...]
 
 
@@ -142,17 +159,31 @@ class Vertex:
             else:
                 groups.append((term.coefficient, [(sympy.Integer(1), term)]))
         wrap = any(len(t.structure.chains) > 1 for t in self.terms)
+        names = self._index_names()
         out = []
         for base, members in groups:
-            lorentz = sympy.Add(*[ratio * lorentz_to_sympy(t.structure, wrap) for ratio, t in members])
-            out.append(CouplingPart(base, lorentz, tuple(t for _, t in members)))
+            by_group: dict[tuple, list[tuple[sympy.Expr, VertexTerm]]] = {}
+            for ratio, t in members:
+                by_group.setdefault(t.structure.group, []).append((ratio, t))
+            for group_part, items in by_group.items():
+                lorentz = sympy.Add(*[ratio * lorentz_to_sympy(t.structure, wrap) for ratio, t in items])
+                group = group_to_sympy(group_part, names)
+                out.append(CouplingPart(base, lorentz, group, tuple(t for _, t in items)))
         return tuple(out)
+
+    def _index_names(self) -> dict[tuple[int, str], str]:
+        qualify = {leg.position: len(leg.representations) > 1 for leg in self.legs}
+        return {(leg.position, g): group_index_name(leg.position, g, rep, qualify[leg.position])
+                for leg in self.legs for g, rep, _ in leg.representations}
 
     @cached_property
     def factor(self) -> sympy.Expr:
         """The vertex factor as one sympy expression (legs: p1.., mu1..; see the README)."""
-        return sympy.Add(*[sympy.Mul(part.coupling, part.lorentz, evaluate=False)
-                           if part.lorentz != 1 else part.coupling for part in self.parts])
+        pieces = []
+        for part in self.parts:
+            rest = [x for x in (part.group, part.lorentz) if x != 1]
+            pieces.append(sympy.Mul(part.coupling, *rest, evaluate=False) if rest else part.coupling)
+        return sympy.Add(*pieces)
 
     @property
     def latex(self) -> str:
@@ -169,25 +200,30 @@ class Vertex:
             raise UsageError(f"evaluate() needs {len(self.legs)} four-momenta (one per leg), got shape {p.shape}")
         numbers = _values_for(self.model, values)
         axes = [axis for leg in self.legs for axis in leg.axes]
+        ranks = {name: g.rank for name, g in self.model.groups.items()}
+        dims = {(leg.position, g): d for leg in self.legs for g, _, d in leg.representations}
         result: np.ndarray | None = None
         for term in self.terms:
             c = _numeric(term.coefficient, numbers, "vertex " + " ".join(self.labels))
-            tensor = c * evaluate_structure(term.structure, axes, p, self.model.conventions.eps0123)
+            tensor = c * evaluate_structure(term.structure, axes, p, self.model.conventions.eps0123, ranks,
+                                                dims)
             result = tensor if result is None else result + tensor
         if result is None:
-            shape = tuple(4 for _ in axes)
+            shape = tuple(4 for leg in self.legs for _ in leg.axes)
             return np.zeros(shape, dtype=complex)
         return result
 
     def reordered(self, order: Sequence[int]) -> "Vertex":
         """The same vertex with legs in another order (order[k] = old position of new leg k+1)."""
         new_position = {old: k + 1 for k, old in enumerate(order)}
-        legs = tuple(Leg(new_position[self.legs[old - 1].position], self.legs[old - 1].field,
-                         self.legs[old - 1].conjugate, self.legs[old - 1].kind, self.legs[old - 1].grassmann)
-                     for old in order)
+        legs = tuple(replace(self.legs[old - 1], position=new_position[old]) for old in order)
         grassmann_old = [old for old in order if self.legs[old - 1].grassmann]
         sign = _parity(grassmann_old)
-        terms = tuple(VertexTerm(sign * t.coefficient, relabel_legs(t.structure, new_position)) for t in self.terms)
+        terms_: list[VertexTerm] = []
+        for t in self.terms:
+            relabel_sign, structure = relabel_legs(t.structure, new_position)
+            terms_.append(VertexTerm(sign * relabel_sign * t.coefficient, structure))
+        terms = tuple(terms_)
         terms = tuple(sorted(terms, key=lambda t: structure_sort_key(t.structure)))
         return Vertex(legs, terms, self.model, self.origins)
 
@@ -204,6 +240,14 @@ def _parity(sequence: Sequence[int]) -> int:
 
 def _part_latex(part: CouplingPart) -> str:
     coupling = to_latex(part.coupling)
+    if part.group != 1:
+        group = to_latex(part.group)
+        coupling = (f"\\left({coupling}\\right)" if isinstance(part.coupling, sympy.Add) else coupling)
+        coupling = group if part.coupling == 1 else f"{coupling} \\, {group}"
+        if part.lorentz == 1:
+            return coupling
+        return f"{coupling} \\, " + (f"\\left[{to_latex(part.lorentz)}\\right]" if isinstance(part.lorentz, sympy.Add)
+                                      else to_latex(part.lorentz))
     if part.lorentz == 1:
         return coupling
     lorentz = to_latex(part.lorentz)
@@ -237,6 +281,7 @@ class Propagator:
     b: sympy.Expr
     gauge: str
     model: "Model" = field(compare=False, repr=False)
+    representations: tuple[tuple[str, str, int], ...] = ()
 
     @property
     def label(self) -> str:
@@ -248,7 +293,12 @@ class Propagator:
 
     @property
     def indices(self) -> tuple[str, ...]:
-        return {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
+        names = {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
+        for group, rep, _ in self.representations:
+            letter = "a" if rep == "adjoint" else "i"
+            suffix = f"_{group}" if len(self.representations) > 1 else ""
+            names += (f"{letter}1{suffix}", f"{letter}2{suffix}")
+        return names
 
     @cached_property
     def factor(self) -> sympy.Expr:
@@ -260,7 +310,12 @@ class Propagator:
             expr = _over_common_denominator([(self.a, Metric(MU, NU)),
                                              (self.b, FourVector(P, MU) * FourVector(P, NU))])
         # p2 (= p.p) was kept as one symbol so that p^2 - m^2 is not factored into (p - m)(p + m)
-        return expr.subs(P2, P**2)
+        expr = expr.subs(P2, P**2)
+        if self.representations:
+            deltas = [GroupDelta(sympy.Symbol(g), *[sympy.Symbol(n) for n in self.indices[-2 * (len(self.representations) - k):][:2]])
+                      for k, (g, _, _) in enumerate(self.representations)]
+            return sympy.Mul(*deltas, expr, evaluate=False)
+        return expr
 
     @property
     def latex(self) -> str:
@@ -279,10 +334,14 @@ class Propagator:
         a = _numeric(self.a, numbers, f"propagator {self.field}")
         b = _numeric(self.b, numbers, f"propagator {self.field}")
         if self.kind == "scalar":
-            return np.array(a, dtype=complex)
-        if self.kind == "dirac":
-            return a * slash(momentum) + b * IDENTITY4
-        return a * METRIC + b * np.outer(momentum, momentum)
+            result = np.array(a, dtype=complex)
+        elif self.kind == "dirac":
+            result = a * slash(momentum) + b * IDENTITY4
+        else:
+            result = a * METRIC + b * np.outer(momentum, momentum)
+        for _, _, dim in self.representations:
+            result = np.multiply.outer(result, np.eye(dim))
+        return result
 
 
 def _over_common_denominator(parts: list[tuple[sympy.Expr, sympy.Expr]]) -> sympy.Expr:

@@ -57,7 +57,28 @@ class Dummy:
         return (2, self.name)
 
 
-Slot = Union[LegIndex, Momentum, Dummy]
+@dataclass(frozen=True, order=True)
+class LegGroupIndex:
+    """The index of leg `leg` under a non-abelian group (adjoint a_k, fundamental i_k)."""
+
+    leg: int
+    group: str
+
+    def key(self) -> tuple:
+        return (3, self.group, self.leg)
+
+
+@dataclass(frozen=True, order=True)
+class GroupDummy:
+    """An internal contracted group index; canonical names are e1, e2, ..."""
+
+    name: str
+
+    def key(self) -> tuple:
+        return (4, self.name)
+
+
+Slot = Union[LegIndex, Momentum, Dummy, LegGroupIndex, GroupDummy]
 
 
 def slot_key(slot: Slot) -> tuple:
@@ -104,6 +125,44 @@ class Epsilon:
 
 
 Tensor = Union[Metric, Vector, Dot, Epsilon]
+
+
+# ------------------------------------------------------------------ group tensors
+
+@dataclass(frozen=True)
+class StructureConstant:
+    """f^{abc} of a non-abelian group, totally antisymmetric."""
+
+    group: str
+    slots_: tuple[Slot, Slot, Slot]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return self.slots_
+
+
+@dataclass(frozen=True)
+class Generator:
+    """(T^a)_{ij} in the fundamental."""
+
+    group: str
+    slots_: tuple[Slot, Slot, Slot]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return self.slots_
+
+
+@dataclass(frozen=True)
+class GroupDelta:
+    """delta_{ij} or delta^{ab} of a group's index space."""
+
+    group: str
+    slots_: tuple[Slot, Slot]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return self.slots_
+
+
+GroupTensor = Union[StructureConstant, Generator, GroupDelta]
 
 
 # ------------------------------------------------------------------ Dirac matrices and chains
@@ -160,14 +219,20 @@ class Structure:
 
     tensors: tuple[Tensor, ...] = ()
     chains: tuple[Chain, ...] = ()
+    group: tuple[GroupTensor, ...] = ()
 
     def slots(self) -> tuple[Slot, ...]:
-        return tuple(s for t in self.tensors for s in t.slots()) + tuple(s for c in self.chains for s in c.slots())
+        return (tuple(s for t in self.tensors for s in t.slots()) + tuple(s for c in self.chains for s in c.slots())
+                + tuple(s for g in self.group for s in g.slots()))
 
     def map_slots(self, f: "callable") -> "Structure":  # type: ignore[valid-type]
         return Structure(tuple(_map_tensor(t, f) for t in self.tensors),
                          tuple(Chain(c.bar_leg, c.leg, tuple(_map_matrix(mat, f) for mat in c.matrices))
-                               for c in self.chains))
+                               for c in self.chains),
+                         tuple(type(g)(g.group, tuple(f(x) for x in g.slots_)) for g in self.group))  # type: ignore
+
+    def without_group(self) -> "Structure":
+        return Structure(self.tensors, self.chains)
 
 
 def _map_tensor(t: Tensor, f: "callable") -> Tensor:  # type: ignore[valid-type]
@@ -290,9 +355,33 @@ def _canonical_chain(chain: Chain) -> tuple[int, Chain | None]:
     return sign * factor, Chain(chain.bar_leg, chain.leg, tuple(reduced))
 
 
+def _canonical_group_tensor(t: GroupTensor) -> tuple[int, GroupTensor | None]:
+    if isinstance(t, StructureConstant):
+        keys = [slot_key(x) for x in t.slots_]
+        if len(set(keys)) < 3:
+            return 0, None
+        return _permutation_sign(keys), StructureConstant(t.group, tuple(sorted(t.slots_, key=slot_key)))  # type: ignore
+    if isinstance(t, GroupDelta):
+        return 1, GroupDelta(t.group, tuple(sorted(t.slots_, key=slot_key)))  # type: ignore[arg-type]
+    return 1, t
+
+
+def _group_key(t: GroupTensor) -> tuple:
+    kind = {StructureConstant: 0, Generator: 1, GroupDelta: 2}[type(t)]
+    return (t.group, kind, tuple(slot_key(s) for s in t.slots_))
+
+
 def canonical_structure(structure: Structure) -> tuple[int, Structure | None]:
     """(sign, canonical structure) or (0, None) when the structure vanishes."""
     sign = 1
+    group: list[GroupTensor] = []
+    for g in structure.group:
+        s_, cg = _canonical_group_tensor(g)
+        if cg is None:
+            return 0, None
+        sign *= s_
+        group.append(cg)
+    group.sort(key=_group_key)
     tensors: list[Tensor] = []
     for t in structure.tensors:
         s, c = _canonical_tensor(t)
@@ -309,29 +398,37 @@ def canonical_structure(structure: Structure) -> tuple[int, Structure | None]:
         chains.append(c2)
     tensors.sort(key=_tensor_key)
     chains.sort(key=lambda c: (c.bar_leg, c.leg))
-    result = Structure(tuple(tensors), tuple(chains))
+    result = Structure(tuple(tensors), tuple(chains), tuple(group))
     # dummy names by order of appearance
-    names: dict[str, Dummy] = {}
+    names: dict[str, Slot] = {}
 
     def rename(slot: Slot) -> Slot:
         if isinstance(slot, Dummy):
-            if slot.name not in names:
-                names[slot.name] = Dummy(f"r{len(names) + 1}")
-            return names[slot.name]
+            if ("L", slot.name) not in names:
+                names[("L", slot.name)] = Dummy(f"r{sum(k[0] == 'L' for k in names) + 1}")  # type: ignore[index]
+            return names[("L", slot.name)]  # type: ignore[index]
+        if isinstance(slot, GroupDummy):
+            if ("G", slot.name) not in names:
+                names[("G", slot.name)] = GroupDummy(f"e{sum(k[0] == 'G' for k in names) + 1}")  # type: ignore
+            return names[("G", slot.name)]  # type: ignore[index]
         return slot
 
     for slot in result.slots():
         rename(slot)
-    if names and any(old != new.name for old, new in names.items()):
+    if names:
         result = result.map_slots(rename)
-        tensors2 = sorted(result.tensors, key=_tensor_key)
-        result = Structure(tuple(tensors2), result.chains)
+        again = [(_canonical_group_tensor(g)) for g in result.group]
+        for s_, _ in again:
+            sign *= s_
+        result = Structure(tuple(sorted(result.tensors, key=_tensor_key)), result.chains,
+                           tuple(sorted((g for _, g in again), key=_group_key)))  # type: ignore[arg-type]
     return sign, result
 
 
 def structure_sort_key(structure: Structure) -> tuple:
     """A total, deterministic order of structures (for output)."""
-    return (len(structure.tensors), tuple(_tensor_key(t) for t in structure.tensors),
+    return (tuple(_group_key(g) for g in structure.group), len(structure.tensors),
+            tuple(_tensor_key(t) for t in structure.tensors),
             tuple((c.bar_leg, c.leg, tuple(_matrix_key(mat) for mat in c.matrices)) for c in structure.chains))
 
 
@@ -357,19 +454,23 @@ def replace_slot(structure: Structure, position: int, value: Slot) -> Structure:
     return structure.map_slots(f)
 
 
-def relabel_legs(structure: Structure, new: dict[int, int]) -> Structure:
-    """Renumber legs (old -> new position) in every slot and chain."""
+def relabel_legs(structure: Structure, new: dict[int, int]) -> tuple[int, Structure]:
+    """Renumber legs (old -> new position) in every slot and chain; (sign, canonical structure)."""
 
     def f(slot: Slot) -> Slot:
         if isinstance(slot, LegIndex):
             return LegIndex(new[slot.leg])
+        if isinstance(slot, LegGroupIndex):
+            return LegGroupIndex(new[slot.leg], slot.group)
         if isinstance(slot, Momentum):
             return slot.relabel(new)
         return slot
 
     mapped = structure.map_slots(f)
     chains = tuple(Chain(new[c.bar_leg], new[c.leg], c.matrices) for c in mapped.chains)
-    return Structure(mapped.tensors, chains)
+    sign, canonical = canonical_structure(Structure(mapped.tensors, chains, mapped.group))
+    assert canonical is not None
+    return sign, canonical
 
 
 def legs_in(slots: Iterable[Slot]) -> set[int]:
@@ -382,6 +483,7 @@ def legs_in(slots: Iterable[Slot]) -> set[int]:
     return out
 
 
-__all__ = ["LegIndex", "Momentum", "Dummy", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
+__all__ = ["LegIndex", "Momentum", "Dummy", "LegGroupIndex", "GroupDummy", "StructureConstant", "Generator",
+           "GroupDelta", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
            "Sigma", "Chiral", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
            "momentum_slots", "replace_slot", "relabel_legs", "replace"]

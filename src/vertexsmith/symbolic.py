@@ -14,8 +14,9 @@ import sympy
 from sympy.printing.latex import LatexPrinter
 
 from .structures import (Chain as ChainStruct, Chiral, Dot as DotStruct, Dummy, Epsilon, Gamma as GammaStruct,
+                         Generator as GeneratorStruct, GroupDelta as GroupDeltaStruct, GroupDummy, LegGroupIndex,
                          LegIndex, Metric as MetricStruct, Momentum, Sigma as SigmaStruct, Slot, Structure,
-                         Vector)
+                         StructureConstant as StructureConstantStruct, Vector)
 
 
 def momentum_symbol(leg: int) -> sympy.Symbol:
@@ -121,6 +122,44 @@ class Chain(sympy.Function):
         return f"\\left[{printer._print(mat)}\\right]_{{{i} {j}}}"
 
 
+def _latex_group_index(s: Any, printer: LatexPrinter) -> str:
+    name = str(s)
+    base, _, group = name.partition("_")
+    letter, digits = base[:1], base[1:]
+    if digits.isdigit():
+        return f"{letter}_{{{digits}}}"
+    return printer._print(s)
+
+
+class StructureConstant(sympy.Function):
+    """f^{abc} of the group named by the first argument."""
+
+    nargs = 4
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return "f^{" + " ".join(_latex_group_index(a, printer) for a in self.args[1:]) + "}"
+
+
+class Generator(sympy.Function):
+    """(T^a)_{ij} in the fundamental of the group named by the first argument."""
+
+    nargs = 4
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        a, i, j = (_latex_group_index(x, printer) for x in self.args[1:])
+        return f"\\left(T^{{{a}}}\\right)_{{{i} {j}}}"
+
+
+class GroupDelta(sympy.Function):
+    """delta of a group's index space (the group named by the first argument)."""
+
+    nargs = 3
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        i, j = (_latex_group_index(x, printer) for x in self.args[1:])
+        return f"\\delta_{{{i} {j}}}"
+
+
 Gamma5 = sympy.Symbol("Gamma5", commutative=False)
 ProjL = sympy.Symbol("ProjL", commutative=False)
 ProjR = sympy.Symbol("ProjR", commutative=False)
@@ -129,7 +168,9 @@ LATEX_NAMES = {Gamma5: r"\gamma^5", ProjL: "P_L", ProjR: "P_R"}
 
 NAMESPACE: dict[str, Any] = {"Metric": Metric, "FourVector": FourVector, "Dot": Dot, "LeviCivita": LeviCivita,
                              "Gamma": Gamma, "Slash": Slash, "Sigma": Sigma, "Chain": Chain, "Gamma5": Gamma5,
-                             "ProjL": ProjL, "ProjR": ProjR, "I": sympy.I, "pi": sympy.pi}
+                             "ProjL": ProjL, "ProjR": ProjR, "I": sympy.I, "pi": sympy.pi,
+                             "StructureConstant": StructureConstant, "Generator": Generator,
+                             "GroupDelta": GroupDelta}
 
 
 def slot_to_sympy(slot: Slot) -> sympy.Expr:
@@ -168,6 +209,23 @@ def lorentz_to_sympy(structure: Structure, wrap_chains: bool) -> sympy.Expr:
     for chain in structure.chains:
         mat = _matrices_to_sympy(chain)
         factors.append(Chain(chain.bar_leg, chain.leg, mat) if wrap_chains else mat)
+    return sympy.Mul(*factors) if factors else sympy.Integer(1)
+
+
+def group_to_sympy(tensors: tuple, names: dict[tuple[int, str], str]) -> sympy.Expr:
+    """The group part of a structure; leg indices named a3, i1 (see Leg.indices), dummies e1, e2."""
+    def slot(x: Slot) -> sympy.Symbol:
+        if isinstance(x, LegGroupIndex):
+            return sympy.Symbol(names.get((x.leg, x.group), f"g{x.leg}"))
+        assert isinstance(x, GroupDummy)
+        return sympy.Symbol(x.name)
+
+    factors: list[sympy.Expr] = []
+    for t in tensors:
+        group = sympy.Symbol(t.group)
+        cls = {StructureConstantStruct: StructureConstant, GeneratorStruct: Generator,
+               GroupDeltaStruct: GroupDelta}[type(t)]
+        factors.append(cls(group, *[slot(x) for x in t.slots_]))
     return sympy.Mul(*factors) if factors else sympy.Integer(1)
 
 

@@ -1,0 +1,51 @@
+"""Lie-algebra data for SU(N): generators in the fundamental and structure constants.
+
+Generators are the generalised Gell-Mann matrices divided by two, normalised to
+Tr(T^a T^b) = delta^{ab}/2, in Gell-Mann's order (so f^{123} = 1 for SU(2) and SU(3)).
+Structure constants are computed from them, f^{abc} = -2 i Tr([T^a, T^b] T^c), never typed in.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+
+REPRESENTATIONS = ("fundamental", "antifundamental", "adjoint")
+REPRESENTATION_ALIASES = {"fundamental": "fundamental", "fund": "fundamental", "triplet": "fundamental",
+                          "doublet": "fundamental", "antifundamental": "antifundamental",
+                          "antifund": "antifundamental", "antitriplet": "antifundamental",
+                          "adjoint": "adjoint", "adj": "adjoint", "octet": "adjoint", "triplet_adjoint": "adjoint"}
+
+
+@lru_cache(maxsize=None)
+def su_generators(n: int) -> np.ndarray:
+    """T^a of SU(n) in the fundamental, shape (n^2 - 1, n, n)."""
+    mats: list[np.ndarray] = []
+    for k in range(1, n):
+        for j in range(k):
+            sym = np.zeros((n, n), dtype=complex)
+            sym[j, k] = sym[k, j] = 0.5
+            asym = np.zeros((n, n), dtype=complex)
+            asym[j, k], asym[k, j] = -0.5j, 0.5j
+            mats += [sym, asym]
+        diag = np.zeros((n, n), dtype=complex)
+        for i in range(k):
+            diag[i, i] = 1.0
+        diag[k, k] = -k
+        mats.append(diag / np.sqrt(2 * k * (k + 1)))
+    return np.array(mats)
+
+
+@lru_cache(maxsize=None)
+def su_structure_constants(n: int) -> np.ndarray:
+    """f^{abc} of SU(n), real and totally antisymmetric, shape (n^2 - 1,)*3."""
+    t = su_generators(n)
+    commutator = np.einsum("aij,bjk->abik", t, t) - np.einsum("bij,ajk->abik", t, t)
+    f = -2j * np.einsum("abik,cki->abc", commutator, t)
+    return np.real_if_close(f).real.copy()
+
+
+def dimension(n: int, representation: str) -> int:
+    """Dimension of a representation of SU(n)."""
+    return n * n - 1 if representation == "adjoint" else n
