@@ -454,9 +454,9 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
                 raise DerivationError(f"the quadratic terms of '{f.name}' contain an epsilon tensor", f.span,
                                       "parity-odd kinetic terms are not supported")
         for chain in structure.chains:
-            chiral = [mat for mat in chain.matrices if isinstance(mat, Chiral)]
-            if chiral or any(isinstance(mat, Sigma) for mat in chain.matrices):
-                raise DerivationError(f"the quadratic terms of '{f.name}' are chiral (gamma5, PL or PR)", f.span,
+            chiral = [mat.kind for mat in chain.matrices if isinstance(mat, Chiral)]
+            if any(isinstance(mat, Sigma) for mat in chain.matrices):
+                raise DerivationError(f"the quadratic terms of '{f.name}' contain sigma[mu,nu]", f.span,
                                       "write Dirac kinetic and mass terms as bar(psi) (I gamma[mu] d[mu] - m) psi")
             slashes = [mat for mat in chain.matrices if isinstance(mat, Gamma)]
             if len(slashes) == 1 and isinstance(slashes[0].slot, Momentum):
@@ -464,6 +464,13 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
                 key = "slash"
             elif slashes:
                 raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", f.span)
+            # split into left- and right-handed parts: 1 = PL + PR, gamma5 = PR - PL
+            weights = {"PL": {"L": 1}, "PR": {"R": 1}, "gamma5": {"L": -1, "R": 1}}.get(
+                chiral[0] if chiral else "", {"L": 1, "R": 1})
+            for hand, w in weights.items():
+                kernel[f"{key}_{hand}"] += w * value
+        if structure.chains:
+            continue
         if f.is_vector and key == "one" and not structure.tensors:
             raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", f.span)
         if sum(isinstance(t, Vector) for t in structure.tensors) == 2:
@@ -477,7 +484,23 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
         return Propagator(f.name, "scalar", sympy.factor(sympy.I / k), sympy.Integer(0), gauge, model,
                           _propagator_reps(model, f))
     if f.is_fermion:
-        a, b = kernel.get("slash", sympy.Integer(0)), kernel.get("one", sympy.Integer(0))
+        zero = sympy.Integer(0)
+        alpha, beta = kernel.get("slash_L", zero), kernel.get("slash_R", zero)
+        mass_l, mass_r = kernel.get("one_L", zero), kernel.get("one_R", zero)
+        if sympy.simplify(mass_l - mass_r) != 0:
+            raise DerivationError(f"the mass terms of '{f.name}' differ between its chiralities", f.span,
+                                  "write the mass as - m bar(psi) psi, or rotate the chiral phase away")
+        if sympy.simplify(alpha - beta) != 0:
+            if mass_l != 0:
+                raise DerivationError(f"'{f.name}' has a mass but chiral kinetic terms", f.span,
+                                      "write the kinetic term as bar(psi) I gamma[mu] D[mu] psi")
+            if alpha == 0 and beta == 0:
+                raise _no_kernel(f)
+            # K = pslash (alpha PL + beta PR)  =>  D = i (PL / alpha + PR / beta) pslash / p^2
+            left = sympy.factor(sympy.I / (alpha * P2)) if alpha != 0 else zero
+            right = sympy.factor(sympy.I / (beta * P2)) if beta != 0 else zero
+            return Propagator(f.name, "dirac", zero, zero, gauge, model, _propagator_reps(model, f), (left, right))
+        a, b = alpha, mass_l
         denominator = sympy.factor(a**2 * P2 - b**2)
         if denominator == 0:
             raise _no_kernel(f)

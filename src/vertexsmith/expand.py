@@ -223,6 +223,10 @@ class _Expander:
         out: list[_Partial] = []
         for lp in left:
             for rp in right:
+                if lp.pending and not rp.pending and not any(isinstance(a, FieldAtom) for a in rp.atoms):
+                    # a derivative passes over constant factors (numbers, Dirac matrices) to the next field
+                    out.append(_Partial(lp.coefficient * rp.coefficient, lp.atoms + rp.atoms, lp.pending))
+                    continue
                 operands = [rp]
                 for op in reversed(lp.pending):
                     if any(o.pending for o in operands):

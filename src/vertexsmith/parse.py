@@ -64,6 +64,15 @@ def _token_span(token: Token) -> Span:
     return Span(token.line or 0, token.column or 0, token.end_line or token.line or 0, max(token.column or 0, end))
 
 
+def _ratio(tokens: list[Token], meta: Any) -> Fraction:
+    value = Fraction(str(tokens[0]))
+    if len(tokens) == 2:
+        if Fraction(str(tokens[1])) == 0:
+            raise ModelSyntaxError("division by zero in a number", _span(meta), "write a non-zero denominator")
+        value /= Fraction(str(tokens[1]))
+    return value
+
+
 def _string(token: Token | None) -> str:
     return str(token)[1:-1] if token is not None else ""
 
@@ -158,10 +167,10 @@ class _ToSyntax(Transformer):
         return ("mass", children[-1], _span(meta))
 
     def plus_number(self, meta: Any, children: list[Token]) -> Fraction:
-        return Fraction(str(children[0]))
+        return _ratio(children, meta)
 
     def minus_number(self, meta: Any, children: list[Token]) -> Fraction:
-        return -Fraction(str(children[0]))
+        return -_ratio(children, meta)
 
     def charge_attr(self, meta: Any, children: list[Any]) -> tuple[str, Any, Span]:
         return ("charge", sx.ChargeAttr(str(children[0]), children[1], _span(meta)), _span(meta))

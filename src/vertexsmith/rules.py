@@ -15,9 +15,9 @@ import numpy as np
 import sympy
 
 from .errors import UsageError, did_you_mean
-from .numeric import GAMMA, METRIC, IDENTITY4, evaluate_structure, lower, minkowski_dot, slash
+from .numeric import GAMMA, IDENTITY4, METRIC, PROJ_L, PROJ_R, evaluate_structure, lower, minkowski_dot, slash
 from .structures import Structure, relabel_legs, structure_sort_key
-from .symbolic import (FourVector, GroupDelta, Metric, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
+from .symbolic import (FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
@@ -282,6 +282,7 @@ class Propagator:
     gauge: str
     model: "Model" = field(compare=False, repr=False)
     representations: tuple[tuple[str, str, int], ...] = ()
+    chiral: tuple[sympy.Expr, sympy.Expr] | None = None  # D = (cL PL + cR PR) pslash for chiral kinetic terms
 
     @property
     def label(self) -> str:
@@ -304,6 +305,9 @@ class Propagator:
     def factor(self) -> sympy.Expr:
         if self.kind == "scalar":
             expr = self.a
+        elif self.chiral is not None:
+            left, right = self.chiral
+            expr = _over_common_denominator([(left, ProjL * Slash(P)), (right, ProjR * Slash(P))])
         elif self.kind == "dirac":
             expr = _over_common_denominator([(self.a, Slash(P)), (self.b, sympy.Integer(1))])
         else:
@@ -335,6 +339,10 @@ class Propagator:
         b = _numeric(self.b, numbers, f"propagator {self.field}")
         if self.kind == "scalar":
             result = np.array(a, dtype=complex)
+        elif self.chiral is not None:
+            left = _numeric(self.chiral[0], numbers, f"propagator {self.field}")
+            right = _numeric(self.chiral[1], numbers, f"propagator {self.field}")
+            result = (left * PROJ_L + right * PROJ_R) @ slash(momentum)
         elif self.kind == "dirac":
             result = a * slash(momentum) + b * IDENTITY4
         else:
