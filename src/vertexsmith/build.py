@@ -330,7 +330,7 @@ class _Builder:
         free = self._free_indices(t.expr)
         if free:
             index = sorted(free)[0]
-            raise ModelMeaningError(f"Lorentz index '{index}' is left free", self._index_span(t.expr, index) or t.span,
+            raise ModelMeaningError(f"index '{index}' is left free", self._index_span(t.expr, index) or t.span,
                                     f"every index in a term appears exactly twice; contract '{index}' "
                                     "with another factor")
         if not self._has_field(t.expr):
@@ -601,7 +601,7 @@ class _Builder:
                 for index in self._free_indices(factor):
                     seen[index] += 1
                     if seen[index] > 2:
-                        raise ModelMeaningError(f"Lorentz index '{index}' is used more than twice",
+                        raise ModelMeaningError(f"index '{index}' is used more than twice",
                                                 self._index_span(factor, index) or _span_of(factor),
                                                 "rename one pair of the repeated indices")
             return Counter({k: 1 for k, v in seen.items() if v == 1})
@@ -679,4 +679,10 @@ def resolve_values_from(parameters: dict[str, m.Parameter],
 
 
 def resolve_values(model: m.Model, overrides: dict[str, complex]) -> dict[sympy.Symbol, complex]:
-    return resolve_values_from(model.parameters, overrides)
+    """Parameter values, with the gauge parameters xi_<boson> accepted beside the model's own."""
+    gauge_parameters = {str(g.xi): g.xi for g in model.groups.values()}
+    values = resolve_values_from(model.parameters, {k: v for k, v in overrides.items() if k not in gauge_parameters})
+    for name, value in overrides.items():
+        if name in gauge_parameters:
+            values[gauge_parameters[name]] = complex(value)
+    return values

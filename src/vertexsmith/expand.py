@@ -315,8 +315,9 @@ def _canonical_indices(atoms: tuple[Atom, ...]) -> tuple[Atom, ...]:
     names: dict[str, str] = {}
 
     def rename(name: str) -> str:
+        # keep the name the user wrote in front, for error messages; number by order of appearance
         if name not in names:
-            names[name] = f"i{len(names) + 1}"
+            names[name] = f"{name.split('#')[0]}#{len(names) + 1}"
         return names[name]
 
     out: list[Atom] = []

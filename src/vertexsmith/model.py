@@ -257,14 +257,24 @@ class Model:
     def derive(self, gauge: str = "xi") -> "Rules":
         """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'."""
         from .derive import derive_rules
+        from .errors import UsageError, VertexsmithError
 
-        return derive_rules(self, gauge=gauge)
+        try:
+            return derive_rules(self, gauge=gauge)
+        except UsageError:
+            raise
+        except VertexsmithError as exc:
+            raise exc.with_source(self.source) from None
 
     def monomials(self) -> tuple[Any, ...]:
         """The Lagrangian expanded into monomials (coefficient times ordered field factors)."""
+        from .errors import VertexsmithError
         from .expand import expand_model
 
-        return expand_model(self)
+        try:
+            return expand_model(self)
+        except VertexsmithError as exc:
+            raise exc.with_source(self.source) from None
 
     def parameter_values(self, overrides: dict[str, complex] | None = None) -> dict[sympy.Symbol, complex]:
         """Numeric values of all parameters: the model's own numbers, overridden by the caller's."""
