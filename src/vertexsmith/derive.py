@@ -410,73 +410,69 @@ def ghost_monomials(model: m.Model) -> list[Monomial]:
     return out
 
 
-def _two_point(model: m.Model, species: list[Species], monomials: list[Monomial]) -> tuple[Leg, ...] | None:
-    return make_legs(model, species)
-
-
-def _substitute_p(structure: Structure, legs: tuple[Leg, ...]) -> dict[str, sympy.Expr]:
-    """Structure with p(leg 1) = -p, p(leg 2) = p: returns the kind of term and its value."""
-    def sign(mom: Momentum) -> sympy.Expr:
-        return sympy.Add(*[(-1 if leg == 1 else 1) * sympy.Rational(c.numerator, c.denominator)
-                           for leg, c in mom.terms])
-    return {"sign": sympy.Integer(1)} if not structure else {"sign": sign}  # pragma: no cover
-
-
 def _momentum_sign(mom: Momentum) -> sympy.Expr:
     """With p(leg 1) = -p and p(leg 2) = +p, a combination sum c_k p_k equals (this) x p."""
-    return sympy.Add(*[(-1 if leg == 1 else 1) * sympy.Rational(c.numerator, c.denominator) for leg, c in mom.terms])
+    return sympy.Add(*[(-1 if leg == 1 else 1) * sympy.Rational(c.numerator, c.denominator)
+                       for leg, c in mom.terms])
+
+
+def quadratic_kernel(model: m.Model, f: m.Field, monomials: Iterable[Monomial]) -> dict[str, sympy.Expr]:
+    """Gamma_2 / i of one field from its quadratic monomials, split by structure.
+
+    Keys: 'one' (scalar part, may hold p2 = p.p), 'metric' (coefficient of g^{mu nu}), 'pp' (of
+    p^mu p^nu); for fermions 'slash_L', 'slash_R' (coefficient of p-slash on each chirality) and
+    'one_L', 'one_R'. Legs as derive's propagators: (bar/dag f, f) or (f, f), p along the arrow.
+    Canonical: scalar one = p2 - m^2; Dirac slash_L = slash_R = 1, one_L = one_R = -m; vector
+    metric = -p2 + m^2. The reading follows derive.propagator_for, which inverts the same kernel.
+    """
+    species = [(f.name, True), (f.name, False)] if f.is_complex else [(f.name, False), (f.name, False)]
+    legs = make_legs(model, species)
+    kernel: dict[str, sympy.Expr] = defaultdict(lambda: sympy.Integer(0))
+    for mono in monomials:
+        for coefficient, structure in monomial_terms(model, mono, legs):
+            if any(not isinstance(g, GroupDelta) for g in structure.group):
+                raise DerivationError(f"the quadratic terms of '{f.name}' are not diagonal in its group indices",
+                                      mono.origin, "write its kinetic and mass terms with the group indices "
+                                      "contracted")
+            value = coefficient / sympy.I
+            key = "one"
+            for t in structure.tensors:
+                if isinstance(t, Dot):
+                    value *= _momentum_sign(t.p) * _momentum_sign(t.q) * P2
+                elif isinstance(t, Metric):
+                    key = "metric"
+                elif isinstance(t, Vector):
+                    value *= _momentum_sign(t.momentum)
+                    key = "pp"
+                else:
+                    raise DerivationError(f"the quadratic terms of '{f.name}' contain an epsilon tensor", mono.origin,
+                                          "parity-odd kinetic terms are not supported")
+            for chain in structure.chains:
+                if any(isinstance(mat, Sigma) for mat in chain.matrices):
+                    raise DerivationError(f"the quadratic terms of '{f.name}' contain sigma[mu,nu]", mono.origin,
+                                          f"write Dirac kinetic and mass terms as bar({f.name}) "
+                                          f"(I gamma[mu] d[mu] - m) {f.name}")
+                slashes = [mat for mat in chain.matrices if isinstance(mat, Gamma)]
+                if len(slashes) == 1 and isinstance(slashes[0].slot, Momentum):
+                    value *= _momentum_sign(slashes[0].slot)
+                    key = "slash"
+                elif slashes:
+                    raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", mono.origin)
+                # 1 = PL + PR and gamma5 = PR - PL: each chirality separately
+                chiral = [mat.kind for mat in chain.matrices if isinstance(mat, Chiral)]
+                weights = {"PL": {"L": 1}, "PR": {"R": 1}, "gamma5": {"L": -1, "R": 1}}.get(
+                    chiral[0] if chiral else "", {"L": 1, "R": 1})
+                for hand, w in weights.items():
+                    kernel[f"{key}_{hand}"] += w * value
+            if not structure.chains:
+                kernel[key] += value
+    return {k: sympy.expand(v) for k, v in kernel.items()}
+
 
 
 def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge: str) -> Propagator:
-    conjugate = f.is_complex
-    species = [(f.name, True), (f.name, False)] if conjugate else [(f.name, False), (f.name, False)]
-    legs = make_legs(model, species)
-    pairs: list[tuple[sympy.Expr, Structure]] = []
-    for mono in monomials:
-        pairs.extend(monomial_terms(model, mono, legs))
-    kernel: dict[str, sympy.Expr] = defaultdict(lambda: sympy.Integer(0))  # Gamma_2 / i
-    for coefficient, structure in pairs:
-        if any(not isinstance(g, GroupDelta) for g in structure.group):
-            raise DerivationError(f"the quadratic terms of '{f.name}' are not diagonal in its group indices", f.span,
-                                  "write its kinetic and mass terms with the group indices contracted")
-        c = coefficient / sympy.I
-        value = c
-        key = "one"
-        for t in structure.tensors:
-            if isinstance(t, Dot):
-                value *= _momentum_sign(t.p) * _momentum_sign(t.q) * P2
-            elif isinstance(t, Metric):
-                key = "metric"
-            elif isinstance(t, Vector):
-                value *= _momentum_sign(t.momentum)
-                key = "pp" if key in ("one", "pp") else key
-            else:
-                raise DerivationError(f"the quadratic terms of '{f.name}' contain an epsilon tensor", f.span,
-                                      "parity-odd kinetic terms are not supported")
-        for chain in structure.chains:
-            chiral = [mat.kind for mat in chain.matrices if isinstance(mat, Chiral)]
-            if any(isinstance(mat, Sigma) for mat in chain.matrices):
-                raise DerivationError(f"the quadratic terms of '{f.name}' contain sigma[mu,nu]", f.span,
-                                      "write Dirac kinetic and mass terms as bar(psi) (I gamma[mu] d[mu] - m) psi")
-            slashes = [mat for mat in chain.matrices if isinstance(mat, Gamma)]
-            if len(slashes) == 1 and isinstance(slashes[0].slot, Momentum):
-                value *= _momentum_sign(slashes[0].slot)
-                key = "slash"
-            elif slashes:
-                raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", f.span)
-            # split into left- and right-handed parts: 1 = PL + PR, gamma5 = PR - PL
-            weights = {"PL": {"L": 1}, "PR": {"R": 1}, "gamma5": {"L": -1, "R": 1}}.get(
-                chiral[0] if chiral else "", {"L": 1, "R": 1})
-            for hand, w in weights.items():
-                kernel[f"{key}_{hand}"] += w * value
-        if structure.chains:
-            continue
-        if f.is_vector and key == "one" and not structure.tensors:
-            raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", f.span)
-        if sum(isinstance(t, Vector) for t in structure.tensors) == 2:
-            key = "pp"
-        kernel[key] += value
-    kernel = {k: sympy.factor(sympy.expand(v)) for k, v in kernel.items()}
+    """i x the inverse of the quadratic kernel of one field."""
+    kernel = {k: sympy.factor(v) for k, v in quadratic_kernel(model, f, monomials).items()}
     if f.kind in ("scalar", "ghost"):
         k = kernel.get("one", sympy.Integer(0))
         if k == 0:

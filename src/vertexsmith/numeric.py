@@ -124,14 +124,17 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta:
         if isinstance(tensor, Dot):
             scalar *= minkowski_dot(momentum_value(tensor.p, momenta), momentum_value(tensor.q, momenta))
         elif isinstance(tensor, Metric):
+            label = slot_label(tensor.a) + slot_label(tensor.b)  # may add operands of its own: first
             operands.append(METRIC)  # numerically g^{mu nu} = g_{mu nu}
-            subscripts.append(slot_label(tensor.a) + slot_label(tensor.b))
+            subscripts.append(label)
         elif isinstance(tensor, Vector):
+            label = slot_label(tensor.index)
             operands.append(momentum_value(tensor.momentum, momenta))
-            subscripts.append(slot_label(tensor.index))
+            subscripts.append(label)
         elif isinstance(tensor, Epsilon):
+            label = "".join(slot_label(s) for s in tensor.slots_)
             operands.append(levi_civita(eps0123))
-            subscripts.append("".join(slot_label(s) for s in tensor.slots_))
+            subscripts.append(label)
     for chain in structure.chains:
         _chain_operands(chain, labels, operands, subscripts, slot_label, momenta)
 
@@ -177,9 +180,11 @@ def _chain_operands(chain: Chain, labels: _Labels, operands: list[np.ndarray], s
             operands.append(slash(momentum_value(mat.slot, momenta)))
             subscripts.append(current + nxt)
         elif isinstance(mat, Gamma):
+            label = slot_label(mat.slot)
             operands.append(GAMMA)
-            subscripts.append(slot_label(mat.slot) + current + nxt)
+            subscripts.append(label + current + nxt)
         elif isinstance(mat, Sigma):
+            label = slot_label(mat.a) + slot_label(mat.b)
             operands.append(SIGMA)
-            subscripts.append(slot_label(mat.a) + slot_label(mat.b) + current + nxt)
+            subscripts.append(label + current + nxt)
         current = nxt
