@@ -64,7 +64,7 @@ def make_legs(model: m.Model, species: list[Species]) -> tuple[Leg, ...]:
     for k, s in enumerate(species):
         f = model.fields[s[0]]
         reps = tuple((g, rep, dimension(model.groups[g].rank, rep)) for g, rep in f.representations)
-        legs.append(Leg(k + 1, s[0], s[1], f.kind, f.is_grassmann, reps))
+        legs.append(Leg(k + 1, s[0], s[1], f.kind, f.is_grassmann, reps, f.is_complex))
     return tuple(legs)
 
 
@@ -86,8 +86,9 @@ def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Itera
         if grassmann:
             options = [(dict(zip(positions, perm)), 1) for perm in itertools.permutations(targets)]
         else:
-            decorated = [k for k in positions
-                         if mono.atoms[k].index is not None or mono.atoms[k].derivatives]  # type: ignore[union-attr]
+            # fields that differ by an index or a derivative must be enumerated; the rest are interchangeable
+            decorated = [k for k in positions if mono.atoms[k].index is not None  # type: ignore[union-attr]
+                         or mono.atoms[k].derivatives or mono.atoms[k].group_indices]  # type: ignore[union-attr]
             plain = [k for k in positions if k not in decorated]
             options = []
             for chosen in itertools.permutations(targets, len(decorated)):

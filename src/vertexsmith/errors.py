@@ -101,7 +101,7 @@ def nearest_names(name: str, candidates: "list[str] | set[str] | tuple[str, ...]
     """Declared names closest to a misspelt one, for 'did you mean' hints."""
     import difflib
 
-    return difflib.get_close_matches(name, sorted(candidates), n=limit, cutoff=0.5)
+    return difflib.get_close_matches(name, sorted(set(candidates)), n=limit, cutoff=0.5)
 
 
 def did_you_mean(name: str, candidates: "list[str] | set[str] | tuple[str, ...]", fallback: str = "") -> str:

@@ -223,9 +223,14 @@ class _Expander:
         out: list[_Partial] = []
         for lp in left:
             for rp in right:
-                if lp.pending and not rp.pending and not any(isinstance(a, FieldAtom) for a in rp.atoms):
-                    # a derivative passes over constant factors (numbers, Dirac matrices) to the next field
-                    out.append(_Partial(lp.coefficient * rp.coefficient, lp.atoms + rp.atoms, lp.pending))
+                if lp.pending and not any(isinstance(a, FieldAtom) for a in rp.atoms):
+                    # a derivative passes over constant factors (numbers, Dirac matrices) to the next field;
+                    # d[mu] d[nu] phi: the second operator joins the first, both act on phi
+                    if rp.pending and rp.atoms:
+                        raise ModelMeaningError("a derivative acts on a constant factor", rp.pending[0].span,
+                                                "write the derivatives directly before the field")
+                    out.append(_Partial(lp.coefficient * rp.coefficient, lp.atoms + rp.atoms,
+                                        lp.pending + rp.pending))
                     continue
                 operands = [rp]
                 for op in reversed(lp.pending):

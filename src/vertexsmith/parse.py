@@ -317,6 +317,25 @@ def _syntax_error(exc: UnexpectedInput, text: str) -> ModelSyntaxError:
     return ModelSyntaxError(str(exc).splitlines()[0], Span.point(line, column))
 
 
+def _unclosed_bracket(text: str) -> tuple[int, int] | None:
+    """Line and column of the last bracket that is never closed (comments and strings skipped)."""
+    stack: list[tuple[int, int]] = []
+    for number, line in enumerate(text.splitlines(), start=1):
+        in_string = False
+        for column, char in enumerate(line, start=1):
+            if char == '"':
+                in_string = not in_string
+            elif in_string:
+                continue
+            elif char == "#":
+                break
+            elif char in "([":
+                stack.append((number, column))
+            elif char in ")]" and stack:
+                stack.pop()
+    return stack[-1] if stack else None
+
+
 def parse_text(text: str, name: str = "<model>") -> sx.ModelFile:
     """Parse model-file text into syntax nodes, or raise `ModelSyntaxError` with a position."""
     source = Source(name, text)
@@ -339,7 +358,12 @@ def parse_text(text: str, name: str = "<model>") -> sx.ModelFile:
             raise inner.with_source(source) from None
         raise ModelSyntaxError(f"could not read the model: {inner}").with_source(source) from None
     except UnexpectedInput as exc:
-        raise _syntax_error(exc, padded).with_source(source) from None
+        error = _syntax_error(exc, padded)
+        opener = _unclosed_bracket(padded)
+        if opener is not None and error.message == "the file ends too early":
+            error = ModelSyntaxError("this bracket is never closed", Span.point(*opener),
+                                     "close it on the same term; a line goes on while a bracket is open")
+        raise error.with_source(source) from None
     except RecursionError:
         raise ModelSyntaxError("the model nests brackets too deeply",
                                hint="flatten the expression").with_source(source) from None

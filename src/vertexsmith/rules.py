@@ -44,6 +44,7 @@ class Leg:
     kind: str  # scalar, dirac, vector, ghost
     grassmann: bool
     representations: tuple[tuple[str, str, int], ...] = ()  # (group, representation, dimension)
+    is_complex: bool = False
 
     @property
     def label(self) -> str:
@@ -90,9 +91,9 @@ class Leg:
             return f"incoming {name} or outgoing anti-{name}"
         if self.conjugate:
             return f"outgoing {name} or incoming anti-{name}"
-        if self.kind == "vector" and self.field:
-            return f"{name} in or out" if not self.grassmann else name
-        return f"{name} in or out" if self.field else name
+        if self.is_complex:
+            return f"incoming {name} or outgoing anti-{name}"
+        return f"{name} in or out"
 
 
 def group_index_name(position: int, group: str, representation: str, qualify: bool) -> str:

@@ -229,15 +229,19 @@ def group_to_sympy(tensors: tuple, names: dict[tuple[int, str], str]) -> sympy.E
     return sympy.Mul(*factors) if factors else sympy.Integer(1)
 
 
-def parse_factor(text: str) -> sympy.Expr:
-    """Read a factor written by `str(vertex.factor)` back into sympy (our names only)."""
+def parse_factor(text: str, symbols: "dict[str, sympy.Symbol] | None" = None) -> sympy.Expr:
+    """Read a factor written by `str(vertex.factor)` back into sympy (our names only).
+
+    `symbols` maps parameter names to the model's own symbols (which carry real=True), e.g.
+    {p.name: p.symbol for p in model.parameters.values()}, so that the result compares equal.
+    """
     from sympy.parsing.sympy_parser import parse_expr
 
-    return parse_expr(text, local_dict=dict(NAMESPACE), evaluate=True)
+    return parse_expr(text, local_dict={**NAMESPACE, **(symbols or {})}, evaluate=True)
 
 
 def to_latex(expr: sympy.Expr) -> str:
-    return sympy.latex(expr, symbol_names={**LATEX_NAMES, **_greek_symbol_names(expr)})
+    return sympy.latex(expr, symbol_names={**_greek_symbol_names(expr), **LATEX_NAMES})
 
 
 def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
@@ -249,4 +253,10 @@ def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
                 names[s] = f"{tex}_{{{text[len(prefix):]}}}"  # type: ignore[index]
         if text.startswith("xi_"):
             names[s] = rf"\xi_{{{text[3:]}}}"  # type: ignore[index]
+        elif s not in names and len(text) > 1 and text.isalnum() and text.lower() not in _GREEK:
+            names[s] = rf"\mathrm{{{text}}}"  # type: ignore[index]
     return names
+
+
+_GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu",
+          "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega", "lam"}
