@@ -20,9 +20,9 @@ def _folder(name: str) -> Path:
     raise FileNotFoundError(f"vertexsmith data folder '{name}' is missing from the installation")
 
 
-def grammar_text() -> str:
-    """The lark grammar of the model language."""
-    return (_folder("grammar") / "model.lark").read_text(encoding="utf-8")
+def grammar_text(name: str = "model.lark") -> str:
+    """A shipped lark grammar: model.lark (the model language) or handrules.lark (hand-derived rules)."""
+    return (_folder("grammar") / name).read_text(encoding="utf-8")
 
 
 def models_folder() -> Path:
@@ -40,3 +40,21 @@ def shipped_model(name: str) -> Path | None:
     stem = name[:-4] if name.endswith(".vsm") else name
     path = models_folder() / f"{stem}.vsm"
     return path if path.is_file() else None
+
+
+def resolve_model_argument(name: "str | Path") -> Path:
+    """A model named on the command line: an existing file, else a shipped example by name."""
+    from .errors import UsageError
+
+    path = Path(name)
+    if path.is_file():
+        return path
+    if path.is_dir():
+        raise UsageError(f"'{name}' is a folder, not a model file", hint="give the path of a .vsm file")
+    if path.parent in (Path("."), Path("")):
+        shipped = shipped_model(path.name)
+        if shipped is not None:
+            return shipped
+    known = ", ".join(p.stem for p in shipped_models())
+    raise UsageError(f"no model file '{name}'",
+                     hint=f"give the path of a model file, or the name of a shipped model ({known})")

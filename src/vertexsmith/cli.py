@@ -40,20 +40,9 @@ PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare")
 
 def resolve_model(name: str) -> Path:
     """A model argument as a file: an existing path, else a shipped example by name."""
-    from ._resources import shipped_model, shipped_models
+    from ._resources import resolve_model_argument
 
-    path = Path(name)
-    if path.is_file():
-        return path
-    if path.is_dir():
-        raise UsageError(f"'{name}' is a folder, not a model file", hint="give the path of a .vsm file")
-    if path.parent == Path(".") or path.parent == Path(""):
-        shipped = shipped_model(path.name)
-        if shipped is not None:
-            return shipped
-    known = ", ".join(p.stem for p in shipped_models())
-    raise UsageError(f"no model file '{name}'",
-                     hint=f"give the path of a model file, or the name of a shipped model ({known})")
+    return resolve_model_argument(name)
 
 
 def load(name: str) -> "Model":

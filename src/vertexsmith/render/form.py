@@ -1,0 +1,433 @@
+"""Rules as FORM `id` statements, for amplitude work in the open FORM language.
+
+One statement per vertex and per propagator, with a conventions header in `*` comment lines and
+the declarations the statements need. Vertex functions are named by their legs:
+
+    id V(bar(ele),ele,A,p1?,p2?,p3?,mu3?,j1?) = -i_*e*g_(j1,mu3);
+
+The arguments after the leg labels are wildcards, in this order: the incoming momentum of each
+leg (p1, p2, ...), the Lorentz index of each vector leg (mu<k>), the group index of each leg in
+a non-abelian representation (a<k> adjoint, i<k> fundamental), and one spin line per fermion
+chain (j1, j2, ...). Propagators are `P(field,p?[,mu?,nu?][,j?][,group indices])`.
+Gamma matrices are `g_(line,mu)`, gamma5 `g5_(line)`, the unit `gi_(line)`; the metric is
+`d_(mu,nu)`, a momentum component `p1(mu3)`, a dot product `p1.p2`, the Levi-Civita tensor
+`e_(...)`, i is `i_`; 1/x is written `den(x)`. Group tensors are the functions
+`f<group>(a,b,c)`, `T<group>(a,i,j)` and `d<group>(i,j)` (declared, not built in).
+The output is deterministic: the same rules give the same text.
+"""
+
+from __future__ import annotations
+
+import re
+import textwrap
+from fractions import Fraction
+from typing import Iterable
+
+import sympy
+
+from ..rules import P2, Propagator, Rules, Vertex
+from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
+                          Vector)
+
+__all__ = ["render_form", "render"]
+
+# our own FORM names; model names that clash with them are renamed
+_RESERVED = ({"V", "P", "bar", "dag", "den", "conj", "sqrt", "sin", "cos", "tan", "exp", "log", "re", "im", "p",
+              "mu", "nu", "j"}
+             | {f"{letter}{k}" for letter in ("p", "mu", "j", "a", "i", "r", "e") for k in range(1, 10)})
+
+
+class _Names:
+    """FORM spellings of model names: letters and digits only, unique, never one of ours."""
+
+    def __init__(self, reserved: Iterable[str]) -> None:
+        self.taken = set(reserved)
+        self.names: dict[str, str] = {}
+        self.renamed: list[tuple[str, str]] = []
+
+    def of(self, name: str) -> str:
+        if name in self.names:
+            return self.names[name]
+        base = re.sub(r"[^A-Za-z0-9]", "", name.replace("'", "prime"))
+        if not base or not base[0].isalpha():
+            base = "x" + base
+        candidate, n = base, 1
+        while candidate in self.taken:
+            candidate, n = f"{base}x{n}", n + 1
+        self.taken.add(candidate)
+        self.names[name] = candidate
+        if candidate != name:
+            self.renamed.append((candidate, name))
+        return candidate
+
+
+class _Printer:
+    """Scalars (sympy) in FORM syntax: i_, pi_, den(...) for 1/(...), user functions for sqrt, conj..."""
+
+    def __init__(self, names: _Names) -> None:
+        self.names = names
+        self.functions: set[str] = set()
+
+    def __call__(self, expr: sympy.Expr) -> str:
+        return self._print(sympy.sympify(expr))
+
+    def _atom(self, expr: sympy.Expr) -> str:
+        text = self._print(expr)
+        if isinstance(expr, (sympy.Add,)) or (isinstance(expr, sympy.Mul) and expr.could_extract_minus_sign()):
+            return f"({text})"
+        if isinstance(expr, sympy.Rational) and not isinstance(expr, sympy.Integer):
+            return f"({text})"
+        if isinstance(expr, sympy.Integer) and expr < 0:
+            return f"({text})"
+        return text
+
+    def _print(self, expr: sympy.Expr) -> str:  # noqa: C901 - one branch per kind of node
+        if expr == P2:
+            return "p.p"
+        if expr is sympy.I:
+            return "i_"
+        if expr is sympy.pi:
+            return "pi_"
+        if isinstance(expr, sympy.Float):
+            expr = sympy.nsimplify(expr, rational=True)
+        if isinstance(expr, sympy.Rational):
+            return str(expr.p) if expr.q == 1 else f"{expr.p}/{expr.q}"
+        if isinstance(expr, sympy.Symbol):
+            return self.names.of(expr.name)
+        if isinstance(expr, sympy.Add):
+            terms = sorted(expr.args, key=sympy.default_sort_key)
+            out = self._print(terms[0])
+            for t in terms[1:]:
+                text = self._print(t)
+                out += f" - {text[1:]}" if text.startswith("-") else f" + {text}"
+            return out
+        if isinstance(expr, sympy.Mul):
+            coefficient, rest = expr.as_coeff_Mul()
+            factors = sympy.Mul.make_args(rest)
+            numerator: list[str] = []
+            for f in sorted(factors, key=sympy.default_sort_key):
+                if isinstance(f, sympy.Pow) and f.exp.is_Integer and f.exp < 0:
+                    numerator.append(self._inverse(f.base, -int(f.exp)))
+                else:
+                    numerator.append(self._atom(f))
+            body = "*".join(numerator)
+            if coefficient == 1:
+                return body
+            if coefficient == -1:
+                return "-" + body
+            c = self._print(coefficient)
+            return f"{c}*{body}"
+        if isinstance(expr, sympy.Pow):
+            base, exponent = expr.base, expr.exp
+            if exponent == sympy.Rational(1, 2):
+                self.functions.add("sqrt")
+                return f"sqrt({self._print(base)})"
+            if exponent == -sympy.Rational(1, 2):
+                self.functions.add("sqrt")
+                return f"den(sqrt({self._print(base)}))"
+            if exponent.is_Integer and exponent < 0:
+                return self._inverse(base, -int(exponent))
+            if exponent.is_Integer:
+                return f"{self._atom(base)}^{int(exponent)}"
+            return f"{self._atom(base)}^({self._print(exponent)})"
+        if isinstance(expr, sympy.Function):
+            name = {"conjugate": "conj", "re": "re", "im": "im"}.get(type(expr).__name__, type(expr).__name__)
+            self.functions.add(name)
+            return f"{name}({','.join(self._print(a) for a in expr.args)})"
+        if expr is sympy.E:
+            self.functions.add("exp")
+            return "exp(1)"
+        return str(expr)
+
+    def _inverse(self, base: sympy.Expr, power: int) -> str:
+        if isinstance(base, sympy.Symbol) and base != P2:
+            return f"{self._print(base)}^-{power}"
+        text = f"den({self._print(base)})"
+        return text if power == 1 else f"{text}^{power}"
+
+
+# ------------------------------------------------------------------ Lorentz and Dirac structures
+
+def _expand_momenta(structure: Structure) -> list[tuple[Fraction, Structure]]:
+    """Distribute every momentum combination: FORM writes p1(mu) - p2(mu), not (p1 - p2)(mu)."""
+    out: list[tuple[Fraction, Structure]] = [(Fraction(1), structure)]
+    while True:
+        changed = False
+        result: list[tuple[Fraction, Structure]] = []
+        for c, s in out:
+            slots = s.slots()
+            position = next((k for k, x in enumerate(slots) if isinstance(x, Momentum) and len(x.terms) > 1
+                             or isinstance(x, Momentum) and x.terms and x.terms[0][1] != 1), None)
+            if position is None:
+                result.append((c, s))
+                continue
+            changed = True
+            momentum = slots[position]
+            assert isinstance(momentum, Momentum)
+            for leg, coefficient in momentum.terms:
+                counter = iter(range(10_000))
+                single = Momentum.of(leg)
+
+                def f(slot: Slot, _single: Momentum = single, _counter: "Iterable[int]" = counter) -> Slot:
+                    return _single if next(_counter) == position else slot  # type: ignore[call-overload]
+
+                result.append((c * coefficient, s.map_slots(f)))
+        out = result
+        if not changed:
+            return out
+
+
+class _Structure:
+    """One structure as a FORM product; group tensors and spin lines named per vertex."""
+
+    def __init__(self, group_names: dict[tuple[int, str], str], lines: dict[tuple[int, int], str],
+                 group_functions: dict[str, str]) -> None:
+        self.group_names = group_names
+        self.lines = lines
+        self.group_functions = group_functions
+
+    def slot(self, slot: Slot) -> str:
+        if isinstance(slot, LegIndex):
+            return f"mu{slot.leg}"
+        if isinstance(slot, Dummy):
+            return slot.name
+        if isinstance(slot, Momentum):
+            ((leg, _),) = slot.terms
+            return f"p{leg}"
+        if isinstance(slot, LegGroupIndex):
+            return self.group_names[(slot.leg, slot.group)]
+        assert isinstance(slot, GroupDummy)
+        return slot.name
+
+    def product(self, structure: Structure) -> str:
+        factors: list[str] = []
+        for t in structure.tensors:
+            if isinstance(t, Dot):
+                factors.append(f"{self.slot(t.p)}.{self.slot(t.q)}")
+            elif isinstance(t, Metric):
+                a, b = t.a, t.b
+                if isinstance(a, Momentum) and not isinstance(b, Momentum):
+                    a, b = b, a
+                if isinstance(b, Momentum):
+                    factors.append(f"{self.slot(b)}({self.slot(a)})")
+                else:
+                    factors.append(f"d_({self.slot(a)},{self.slot(b)})")
+            elif isinstance(t, Vector):
+                factors.append(f"{self.slot(t.momentum)}({self.slot(t.index)})")
+            elif isinstance(t, Epsilon):
+                factors.append("e_(" + ",".join(self.slot(s) for s in t.slots_) + ")")
+        for chain in structure.chains:
+            factors.append(self.chain(chain))
+        for g in structure.group:
+            kind = {StructureConstant: "f", Generator: "T", GroupDelta: "d"}[type(g)]
+            name = self.group_functions[f"{kind}:{g.group}"]
+            factors.append(f"{name}(" + ",".join(self.slot(s) for s in g.slots_) + ")")
+        return "*".join(factors) if factors else "1"
+
+    def chain(self, chain: Chain) -> str:
+        line = self.lines[(chain.bar_leg, chain.leg)]
+        if not chain.matrices:
+            return f"gi_({line})"
+        parts = []
+        for mat in chain.matrices:
+            if isinstance(mat, Gamma):
+                parts.append(f"g_({line},{self.slot(mat.slot)})")
+            elif isinstance(mat, Sigma):
+                a, b = self.slot(mat.a), self.slot(mat.b)
+                parts.append(f"i_/2*(g_({line},{a},{b}) - g_({line},{b},{a}))")
+            elif isinstance(mat, Chiral):
+                parts.append({"gamma5": f"g5_({line})", "PL": f"(gi_({line}) - g5_({line}))/2",
+                              "PR": f"(gi_({line}) + g5_({line}))/2"}[mat.kind])
+        return "*".join(p if not p.startswith("i_/2") else f"({p})" for p in parts)
+
+
+# ------------------------------------------------------------------ statements
+
+def _leg_label(label: str, names: _Names) -> str:
+    for prefix in ("bar(", "dag("):
+        if label.startswith(prefix) and label.endswith(")"):
+            return f"{prefix}{names.of(label[4:-1])})"
+    return names.of(label)
+
+
+def _form_index(name: str) -> str:
+    return re.sub(r"[^A-Za-z0-9]", "", name)
+
+
+def _vertex_statement(vertex: Vertex, names: _Names, printer: _Printer, group_functions: dict[str, str],
+                      declared: dict[str, set[str]]) -> str:
+    legs = vertex.legs
+    group_names: dict[tuple[int, str], str] = {}
+    group_args: list[str] = []
+    for leg in legs:
+        group_indices = [i for i in leg.indices if i not in (f"mu{leg.position}", f"s{leg.position}")]
+        for (group, _, _), index in zip(leg.representations, group_indices):
+            name = _form_index(index)
+            group_names[(leg.position, group)] = name
+            group_args.append(name)
+    chains = sorted({(c.bar_leg, c.leg) for t in vertex.terms for c in t.structure.chains})
+    lines = {pair: f"j{k + 1}" for k, pair in enumerate(chains)}
+    arguments = ([_leg_label(leg.label, names) for leg in legs] + [f"{leg.momentum}?" for leg in legs]
+                 + [f"mu{leg.position}?" for leg in legs if leg.kind == "vector"]
+                 + [f"{a}?" for a in group_args] + [f"{line}?" for line in lines.values()])
+    declared["vectors"].update(leg.momentum for leg in legs)
+    declared["indices"].update(f"mu{leg.position}" for leg in legs if leg.kind == "vector")
+    declared["indices"].update(group_args)
+    declared["lines"].update(lines.values())
+    writer = _Structure(group_names, lines, group_functions)
+    terms: list[str] = []
+    for term in vertex.terms:
+        for c, structure in _expand_momenta(term.structure):
+            for slot in structure.slots():
+                if isinstance(slot, (Dummy, GroupDummy)):
+                    declared["indices"].add(slot.name)
+            coefficient = sympy.Rational(c.numerator, c.denominator) * term.coefficient
+            terms.append(_times(printer(coefficient), writer.product(structure)))
+    body = _join(terms)
+    head = f"id V({','.join(arguments)}) ="
+    return _wrap(f"{head} {body};")
+
+
+def _times(coefficient: str, product: str) -> str:
+    if product == "1":
+        return coefficient
+    if coefficient == "1":
+        return product
+    if coefficient == "-1":
+        return "-" + product
+    if re.search(r"[+]| - ", coefficient):
+        coefficient = f"({coefficient})"
+    return f"{coefficient}*{product}"
+
+
+def _join(terms: list[str]) -> str:
+    if not terms:
+        return "0"
+    out = terms[0]
+    for t in terms[1:]:
+        out += f" - {t[1:]}" if t.startswith("-") else f" + {t}"
+    return out
+
+
+def _wrap(statement: str) -> str:
+    """Break long statements before a ' + ' or ' - ' outside brackets (a statement ends at its ';')."""
+    if len(statement) <= 100:
+        return statement
+    cuts: list[int] = []
+    depth = 0
+    for k, char in enumerate(statement):
+        if char == "(":
+            depth += 1
+        elif char == ")":
+            depth -= 1
+        elif depth == 0 and statement.startswith((" + ", " - "), k) and k > 0:
+            cuts.append(k)
+    lines, start, current_start = [], 0, 0
+    for cut in cuts + [len(statement)]:
+        if cut - current_start > 96 and start > current_start:
+            lines.append(statement[current_start:start])
+            current_start = start
+        start = cut
+    lines.append(statement[current_start:])
+    return "\n    ".join(line.strip() for line in lines)
+
+
+def _propagator_statement(prop: Propagator, names: _Names, printer: _Printer, group_functions: dict[str, str],
+                          declared: dict[str, set[str]]) -> str:
+    arguments = [names.of(prop.field), "p?"]
+    if prop.kind == "vector":
+        arguments += ["mu?", "nu?"]
+        body = _join([_times(printer(prop.a), "d_(mu,nu)"), _times(printer(prop.b), "p(mu)*p(nu)")]
+                     if prop.b != 0 else [_times(printer(prop.a), "d_(mu,nu)")])
+    elif prop.kind == "dirac":
+        arguments.append("j?")
+        declared["lines"].add("j")
+        chiral = getattr(prop, "chiral", None)
+        if chiral is not None:
+            # (cL PL + cR PR) pslash with PL, PR = (1 -+ gamma5)/2
+            left, right = chiral
+            body = _join([_times(printer(c / 2), f"({m})*g_(j,p)") for c, m in
+                          ((left, "gi_(j) - g5_(j)"), (right, "gi_(j) + g5_(j)")) if c != 0])
+        else:
+            body = _join([_times(printer(prop.a), "g_(j,p)")] + ([_times(printer(prop.b), "gi_(j)")]
+                                                                 if prop.b != 0 else []))
+    else:
+        body = printer(prop.a)
+    deltas = []
+    for k, (group, _, _) in enumerate(prop.representations):
+        index_pair = prop.indices[len(prop.indices) - 2 * len(prop.representations) + 2 * k:][:2]
+        first, second = (_form_index(x) for x in index_pair)
+        arguments += [f"{first}?", f"{second}?"]
+        declared["indices"].update((first, second))
+        deltas.append(f"{group_functions['d:' + group]}({first},{second})")
+    if deltas:
+        body = "*".join(deltas) + f"*({body})"
+    return _wrap(f"id P({','.join(arguments)}) = {body};")
+
+
+def _comment_block(text: str) -> list[str]:
+    return ["* " + line if line else "*" for line in textwrap.wrap(text, 96)]
+
+
+def render_form(rules: Rules) -> str:
+    """FORM `id` statements for every vertex and propagator, with a conventions header (deterministic)."""
+    model = rules.model
+    names = _Names(_RESERVED)
+    for name in list(model.parameters) + list(model.fields):
+        names.of(name)
+    printer = _Printer(names)
+    group_functions: dict[str, str] = {}
+    for group in model.groups.values():
+        for kind in ("f", "T", "d"):
+            group_functions[f"{kind}:{group.name}"] = names.of(f"{kind}{group.name}")
+    declared: dict[str, set[str]] = {"vectors": {"p"}, "indices": {"mu", "nu"}, "lines": set()}
+    statements = [_vertex_statement(v, names, printer, group_functions, declared) for v in rules.vertices]
+    propagators = [_propagator_statement(p, names, printer, group_functions, declared) for p in rules.propagators]
+    symbols = sorted({names.of(n) for n in model.parameters}
+                     | {names.of(s.name) for p in rules.propagators for s in (p.a.free_symbols | p.b.free_symbols)
+                        if s != P2}, key=lambda x: (x.lower(), x))
+    fields = sorted({names.of(f) for f in model.fields}, key=lambda x: (x.lower(), x))
+    functions = ["V", "P", "bar", "dag", "den", *sorted(printer.functions)]
+    functions += sorted(group_functions[k] for k in group_functions
+                        if any(group_functions[k] + "(" in s for s in statements + propagators))
+
+    def _sorted(items: Iterable[str]) -> str:
+        return ", ".join(sorted(items, key=lambda x: (re.sub(r"\d+$", "", x), int(re.search(r"\d*$", x).group() or 0))))
+
+    header = ["* Feynman rules of the model '" + model.name + "' (" + model.description + "),",
+              f"* written by vertexsmith for FORM; gauge: {rules.gauge}.", "*"]
+    header += _comment_block("Conventions: " + rules.conventions)
+    header += ["*"]
+    header += _comment_block(
+        "Vertices: V(leg labels, then wildcards: the incoming momentum of every leg p1, p2, ...; the Lorentz "
+        "index mu<k> of every vector leg; the group index of every leg in a non-abelian representation "
+        "(a<k> adjoint, i<k> fundamental); one spin line j1, j2, ... per fermion chain, chains ordered by "
+        "their bar leg). Propagators: P(field, p, then mu, nu for vectors or the spin line j for fermions, "
+        "then two group indices per group), p along the particle arrow.")
+    header += _comment_block(
+        "Notation: g_(j,mu) gamma matrix on spin line j, g5_(j) gamma5, gi_(j) unit; PL = (gi_ - g5_)/2, "
+        "PR = (gi_ + g5_)/2; sigma^{mu nu} = i_/2*(g_(j,mu,nu) - g_(j,nu,mu)); d_ metric; e_ the "
+        f"Levi-Civita tensor with epsilon^{{0123}} = {model.conventions.eps0123:+d} (our convention: check it "
+        "against FORM's own before contracting two e_); den(x) = 1/x; conj(x) the complex conjugate. "
+        "Group tensors: f<group>(a,b,c) structure constants, T<group>(a,i,j) generators (Tr T^a T^b = "
+        "delta^{ab}/2), d<group>(x,y) Kronecker delta.")
+    header += _comment_block(
+        "Contracted indices r1, r2, ... (Lorentz) and e1, e2, ... (group) are dummies: when one term can hold "
+        "two copies of such a vertex, substitute with 'id once' in a repeat loop and rename the dummies "
+        "(sum r1;) after each substitution.")
+    if names.renamed:
+        header += ["*"] + _comment_block("Renamed for FORM: " + ", ".join(f"{new} = {old}"
+                                                                           for new, old in names.renamed) + ".")
+    lines = header + ["", f"Symbols {', '.join(symbols + fields)};" if symbols or fields else "",
+                      f"Vectors {_sorted(declared['vectors'])};",
+                      f"Indices {_sorted(declared['indices'] | declared['lines'])};",
+                      f"CFunctions {', '.join(functions)};", "", "* vertices"]
+    lines += statements
+    lines += ["", "* propagators"] + propagators
+    return "\n".join(line for line in lines) + "\n"
+
+
+def render(rules: Rules, **options: object) -> str:
+    """The renderer entry point used by `vertexsmith.render.render(rules, "form")`."""
+    return render_form(rules)
