@@ -507,8 +507,14 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
     a, b = kernel.get("metric", sympy.Integer(0)), kernel.get("pp", sympy.Integer(0))
     longitudinal = sympy.factor(a + b * P2)
     if a == 0 or longitudinal == 0:
-        hint = ("a massless vector needs gauge fixing: make it the boson of a gauge group with 'fixing lorenz'"
-                if a != 0 else f"add the kinetic term -1/4 F[mu,nu] F[mu,nu] of '{f.name}'")
+        group = model.boson_group(f.name)
+        if a == 0:
+            hint = f"add the kinetic term -1/4 F[mu,nu] F[mu,nu] of '{f.name}'"
+        elif group is not None:
+            hint = f"a massless vector needs gauge fixing: remove 'fixing none' from group '{group.name}'"
+        else:
+            hint = "a massless vector needs gauge fixing: make it the boson of a gauge group"
+
         raise DerivationError(f"the quadratic kernel of '{f.name}' cannot be inverted", f.span, hint)
     # (a g + b p p)^-1 = g / a - b p p / (a (a + b p^2))
     return Propagator(f.name, "vector", sympy.factor(sympy.I / a),
