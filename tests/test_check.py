@@ -148,7 +148,7 @@ def test_hermiticity_hint_and_rendering():
     lines = str(d).splitlines()
     assert lines[0] == f"t.vsm:22:3: error: {NO_HC}"
     assert lines[1] == "    - y phi bar(chi) PR chi"
-    assert lines[2] == "    ^"
+    assert lines[2] == "    " + "^" * len("- y phi bar(chi) PR chi")  # the caret underlines the whole term
     assert lines[3] == "  hint: add '+ h.c.' at the end of the line"
 
 

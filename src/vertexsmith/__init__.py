@@ -3,7 +3,7 @@
     >>> import vertexsmith
     >>> rules = vertexsmith.load_model(vertexsmith.example("qed")).derive(gauge="feynman")
     >>> rules.vertex("bar(ele)", "ele", "A").factor
-    -I*e*Gamma(mu3)
+    (-I*e)*Gamma(mu3)
 """
 
 from __future__ import annotations

@@ -17,7 +17,7 @@ import sympy
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
-from .groups import REPRESENTATION_ALIASES
+from .groups import representation_name
 from .parse import parse_text
 
 # built-in objects of the Lagrangian and the number of indices each takes
@@ -190,10 +190,11 @@ class _Builder:
                 if kinds[r.group] != "SU":
                     raise ModelMeaningError(f"'{r.group}' is abelian: its fields carry a charge, not a representation",
                                             r.span, f"write: charge {r.group} VALUE")
-                rep = REPRESENTATION_ALIASES.get(r.representation)
+                rank = int(self.groups_syntax[r.group].rank) if self.groups_syntax[r.group].rank.isdigit() else 0
+                rep = representation_name(r.representation, rank)
                 if rep is None:
-                    raise ModelMeaningError(f"unknown representation '{r.representation}'", r.span,
-                                            "write fundamental, antifundamental, adjoint (or leave a singlet out)")
+                    raise ModelMeaningError(f"unknown representation '{r.representation}' of SU({rank})", r.span,
+                                            "write fundamental, antifundamental or adjoint (leave a singlet out)")
                 if rep != "adjoint" and not is_complex:
                     raise ModelMeaningError(f"a real field cannot sit in the {rep} representation", r.span,
                                             f"declare it complex: {f.kind} {f.name} complex ...")
@@ -672,7 +673,8 @@ def resolve_values_from(parameters: dict[str, m.Parameter],
             if p.symbol in values or p.definition is None:
                 continue
             if p.definition.free_symbols <= set(values):
-                number = complex(p.definition.subs(values).evalf())
+                own = {s: values[s] for s in p.definition.free_symbols}
+                number = complex((p.definition.subs(own) if own else p.definition).evalf())
                 values[p.symbol] = number
                 changed = True
     return values

@@ -393,7 +393,7 @@ def _implied_group_indices(model: m.Model, atoms: tuple[Atom, ...], expander: "_
                    and (atom.group_index(group.name) or "").startswith("@adj")]
         names = sorted({result[k].group_index(group.name) for k in implied})  # type: ignore[union-attr, type-var]
         f_names = {a.indices[0] for a in result if isinstance(a, GroupAtom) and a.kind == "f"
-                   and a.indices[0].startswith("@adj")}
+                   and a.group == group.name and a.indices[0].startswith("@adj")}
         names = sorted(set(names) | f_names)
         if names:
             if len(names) != 2:

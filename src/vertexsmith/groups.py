@@ -8,19 +8,28 @@ Structure constants are computed from them, f^{abc} = -2 i Tr([T^a, T^b] T^c), n
 from __future__ import annotations
 
 from functools import lru_cache
+from typing import TYPE_CHECKING
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 REPRESENTATIONS = ("fundamental", "antifundamental", "adjoint")
-REPRESENTATION_ALIASES = {"fundamental": "fundamental", "fund": "fundamental", "triplet": "fundamental",
-                          "doublet": "fundamental", "antifundamental": "antifundamental",
-                          "antifund": "antifundamental", "antitriplet": "antifundamental",
-                          "adjoint": "adjoint", "adj": "adjoint", "octet": "adjoint", "triplet_adjoint": "adjoint"}
+_GENERAL_NAMES = {"fundamental": "fundamental", "fund": "fundamental", "antifundamental": "antifundamental",
+                  "antifund": "antifundamental", "adjoint": "adjoint", "adj": "adjoint"}
+# names by dimension mean different representations for different N: a triplet of SU(2) is its adjoint
+_NAMES_BY_RANK = {2: {"doublet": "fundamental", "triplet": "adjoint"},
+                  3: {"triplet": "fundamental", "antitriplet": "antifundamental", "octet": "adjoint"}}
+
+
+def representation_name(name: str, n: int) -> str | None:
+    """The representation a name stands for in SU(n), or None when it names none."""
+    return _GENERAL_NAMES.get(name) or _NAMES_BY_RANK.get(n, {}).get(name)
 
 
 @lru_cache(maxsize=None)
 def su_generators(n: int) -> np.ndarray:
     """T^a of SU(n) in the fundamental, shape (n^2 - 1, n, n)."""
+    import numpy as np  # imported here: building a model needs no numpy
     mats: list[np.ndarray] = []
     for k in range(1, n):
         for j in range(k):
@@ -40,6 +49,7 @@ def su_generators(n: int) -> np.ndarray:
 @lru_cache(maxsize=None)
 def su_structure_constants(n: int) -> np.ndarray:
     """f^{abc} of SU(n), real and totally antisymmetric, shape (n^2 - 1,)*3."""
+    import numpy as np
     t = su_generators(n)
     commutator = np.einsum("aij,bjk->abik", t, t) - np.einsum("bij,ajk->abik", t, t)
     f = -2j * np.einsum("abik,cki->abc", commutator, t)

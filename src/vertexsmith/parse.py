@@ -229,7 +229,7 @@ class _ToSyntax(Transformer):
         return sx.Definition(str(children[0]), tuple(indices), children[-1], _span(meta))
 
     def lagrangian_term(self, meta: Any, children: list[Any]) -> sx.LagrangianTerm:
-        return sx.LagrangianTerm(children[0], _span(meta))
+        return sx.LagrangianTerm(children[0], getattr(children[0], "span", _span(meta)))
 
     def convention_word(self, meta: Any, children: list[Token]) -> sx.Convention:
         return sx.Convention(str(children[0]), str(children[1]), _span(meta))

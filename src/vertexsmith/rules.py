@@ -126,7 +126,8 @@ def _values_for(model: "Model", values: Mapping[str, complex] | None) -> dict[sy
 
 
 def _numeric(expr: sympy.Expr, values: dict[sympy.Symbol, complex], what: str) -> complex:
-    result = expr.subs(values) if expr.free_symbols else expr
+    # substitute only the symbols the expression has: handing sympy every value is quadratic in model size
+    result = expr.subs({s: values[s] for s in expr.free_symbols if s in values}) if expr.free_symbols else expr
     missing = sorted(str(s) for s in result.free_symbols)
     if missing:
         raise UsageError(f"{what}: no value for {', '.join(missing)}",

@@ -1,0 +1,279 @@
+"""Timing figures for vertexsmith, run by hand from the repository root:
+
+    python benchmarks/run.py              # all sections
+    python benchmarks/run.py --profile    # also profile load_model() and derive() on the largest model
+
+Not a test: it prints a table of wall times and ratios, with the targets beside them.
+
+(a) cold `vertexsmith rules MODEL` for every shipped model, each a fresh process (median of 3);
+(b) load_model() and derive() on generated models of 50, 200 and 1000 Lagrangian lines (real
+    scalars with kinetic and mass terms, cubic and quartic couplings among them, Yukawa couplings
+    to a few Dirac fermions; every term on its own line, every coupling declared), with the time
+    per line: the per-line cost of the largest model over that of the smallest should stay near 1
+    (the work is linear in the number of lines), and derive() of 1000 lines should take < 20 s;
+(c) one operator of six identical scalars with two derivatives, c d[mu] phi d[mu] phi phi^4.
+
+The generated models are random but seeded, so every run derives the same Lagrangian.
+"""
+
+from __future__ import annotations
+
+import argparse
+import cProfile
+import importlib.util
+import io
+import os
+import platform
+import pstats
+import random
+import resource
+import shutil
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+from typing import Callable
+
+ROOT = Path(__file__).resolve().parents[1]
+SOURCE = ROOT / "src"
+if SOURCE.is_dir() and str(SOURCE) not in sys.path:
+    # measure the checkout, not whatever copy happens to be installed
+    sys.path.insert(0, str(SOURCE))
+
+import vertexsmith as vs  # noqa: E402
+from vertexsmith._resources import shipped_models  # noqa: E402
+
+CLI_TARGET_S = 1.5  # qed, cold, one process
+LARGE_TARGET_S = 20.0  # derive() of the 1000-line model
+SIZES = (50, 200, 1000)
+FERMIONS = 3
+REPEATS = 3
+
+
+# ------------------------------------------------------------------ helpers
+
+def _median_time(run: Callable[[], object], repeats: int) -> float:
+    times = []
+    for _ in range(repeats):
+        start = time.perf_counter()
+        run()
+        times.append(time.perf_counter() - start)
+    return statistics.median(times)
+
+
+def _table(header: tuple[str, ...], rows: list[tuple[str, ...]]) -> str:
+    widths = [max(len(str(c)) for c in column) for column in zip(header, *rows)]
+    lines = ["  ".join(str(c).ljust(w) for c, w in zip(header, widths)).rstrip(),
+             "  ".join("-" * w for w in widths)]
+    lines += ["  ".join(str(c).ljust(w) for c, w in zip(row, widths)).rstrip() for row in rows]
+    return "\n".join("  " + line for line in lines)
+
+
+def _version(module: str) -> str:
+    try:
+        return __import__(module).__version__
+    except Exception:  # a missing optional module is reported, not fatal
+        return "not installed"
+
+
+def print_machine() -> None:
+    print("machine")
+    print(f"  cores        {os.cpu_count()}")
+    print(f"  platform     {platform.platform()}")
+    print(f"  python       {platform.python_version()} ({sys.executable})")
+    for module in ("numpy", "sympy", "lark"):
+        print(f"  {module:<12} {_version(module)}")
+    print(f"  vertexsmith  {vs.__version__} ({Path(vs.__file__).parent})")
+    print()
+
+
+# ------------------------------------------------------------------ (a) the command line, cold
+
+def _cli_command() -> tuple[list[str], dict[str, str]] | None:
+    """The command that runs the CLI, and its environment; None when there is no CLI yet."""
+    env = dict(os.environ)
+    script = shutil.which("vertexsmith")
+    if script is not None:
+        return [script], env
+    if importlib.util.find_spec("vertexsmith.cli") is None:
+        return None
+    env["PYTHONPATH"] = os.pathsep.join(p for p in (str(SOURCE), env.get("PYTHONPATH", "")) if p)
+    return [sys.executable, "-m", "vertexsmith.cli"], env
+
+
+def _child_cpu() -> float:
+    usage = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return usage.ru_utime + usage.ru_stime
+
+
+def _run_cold(command: list[str], env: dict[str, str], repeats: int) -> tuple[float, float, str]:
+    """Median wall and CPU seconds of `repeats` fresh processes, and 'ok' or what went wrong."""
+    walls, cpus = [], []
+    for _ in range(repeats):
+        cpu = _child_cpu()
+        start = time.perf_counter()
+        done = subprocess.run(command, env=env, capture_output=True, text=True, check=False)
+        walls.append(time.perf_counter() - start)
+        cpus.append(_child_cpu() - cpu)
+        if done.returncode != 0:
+            first = (done.stderr.strip().splitlines() or ["no output"])[0]
+            return statistics.median(walls), statistics.median(cpus), f"exit {done.returncode}: {first[:60]}"
+    return statistics.median(walls), statistics.median(cpus), "ok"
+
+
+def bench_cli(repeats: int) -> None:
+    print("(a) cold `vertexsmith rules MODEL`, one process per run, median of", repeats)
+    found = _cli_command()
+    if found is None:
+        print("  skipped: vertexsmith.cli does not exist yet and no `vertexsmith` command is on PATH\n")
+        return
+    command, env = found
+    print(f"  command: {' '.join(command)} rules MODEL")
+    print(f"  load average before: {_load_average()} (wall times grow with it; CPU times much less)")
+    import_env = dict(env)
+    import_env["PYTHONPATH"] = os.pathsep.join(p for p in (str(SOURCE), env.get("PYTHONPATH", "")) if p)
+    wall, cpu, status = _run_cold([sys.executable, "-c", "import vertexsmith"], import_env, repeats)
+    rows = [("(python + import vertexsmith)", f"{wall:.2f}", f"{cpu:.2f}", "", status)]
+    for path in shipped_models():
+        wall, cpu, status = _run_cold(command + ["rules", path.stem], env, repeats)
+        target = ""
+        if path.stem == "qed":
+            target = f"< {CLI_TARGET_S} s: {'met' if wall < CLI_TARGET_S else 'MISSED'}"
+        rows.append((path.stem, f"{wall:.2f}", f"{cpu:.2f}", target, status))
+    print(_table(("model", "wall s", "cpu s", "target (wall)", "status"), rows))
+    print()
+
+
+def _load_average() -> str:
+    try:
+        return " ".join(f"{x:.2f}" for x in os.getloadavg())
+    except OSError:  # not available on every platform
+        return "unknown"
+
+
+# ------------------------------------------------------------------ (b) generated models
+
+def generate_model(lines: int, seed: int = 1) -> str:
+    """A model text with `lines` Lagrangian lines: a tenth of them scalar kinetic and mass terms."""
+    rng = random.Random(seed)
+    scalars = max(3, lines // 10)
+    interactions = lines - 2 * scalars - 2 * FERMIONS
+    if interactions < 1:
+        raise ValueError(f"{lines} lines are too few for the generated model")
+    parameters = [f"  mass m{k} = {1.0 + k / 10:.2f}" for k in range(1, scalars + 1)]
+    parameters += [f"  mass mf{j} = {0.5 + j / 10:.2f}" for j in range(1, FERMIONS + 1)]
+    fields = [f"  scalar phi{k} real mass m{k}" for k in range(1, scalars + 1)]
+    fields += [f"  dirac psi{j} mass mf{j}" for j in range(1, FERMIONS + 1)]
+    terms = []
+    for k in range(1, scalars + 1):
+        terms.append(f"  1/2 d[mu] phi{k} d[mu] phi{k}")
+        terms.append(f"  - 1/2 m{k}^2 phi{k}^2")
+    for j in range(1, FERMIONS + 1):
+        terms.append(f"  bar(psi{j}) I gamma[mu] d[mu] psi{j}")
+        terms.append(f"  - mf{j} bar(psi{j}) psi{j}")
+    for n in range(1, interactions + 1):
+        roll = rng.random()
+        a, b, c = (rng.randint(1, scalars) for _ in range(3))
+        if roll < 0.5:
+            parameters.append(f"  coupling k{n} = {rng.uniform(0.1, 2.0):.3f}")
+            terms.append(f"  - k{n} phi{a} phi{b} phi{c}")
+        elif roll < 0.85:
+            parameters.append(f"  coupling q{n} = {rng.uniform(0.01, 0.5):.3f}")
+            terms.append(f"  - q{n}/4 phi{a}^2 phi{b} phi{c}")
+        else:
+            j, i = rng.randint(1, FERMIONS), rng.randint(1, FERMIONS)
+            parameters.append(f"  coupling y{n} = {rng.uniform(0.01, 1.0):.3f}")
+            if i == j:
+                terms.append(f"  - y{n} phi{a} bar(psi{j}) psi{j}")
+            else:  # a hermitian off-diagonal pair
+                terms.append(f"  - y{n} phi{a} (bar(psi{j}) psi{i} + bar(psi{i}) psi{j})")
+    assert len(terms) == lines
+    return "\n".join([f'theory generated{lines} "generated benchmark model, {lines} lines (invented numbers)"',
+                      "parameters", *parameters, "fields", *fields, "lagrangian", *terms, ""])
+
+
+def bench_generated(sizes: tuple[int, ...], profile: bool) -> None:
+    print("(b) generated models: load_model() (parse + build) and derive(), one run each")
+    # warm up (lark builds its parser, sympy fills its caches) so the smallest model is not charged for it
+    vs.load_model(vs.example("phi4")).derive()
+    rows = []
+    first: tuple[float, float] | None = None
+    for size in sizes:
+        text = generate_model(size)
+        start = time.perf_counter()
+        model = vs.load_model(text=text, name=f"generated{size}.vsm")
+        loaded = time.perf_counter() - start
+        start = time.perf_counter()
+        rules = model.derive()
+        derived = time.perf_counter() - start
+        per_line = (loaded / size, derived / size)
+        first = first or per_line
+        target = ""
+        if size == max(sizes):
+            verdict = "met" if derived < LARGE_TARGET_S else "MISSED"
+            total = "met" if loaded + derived < LARGE_TARGET_S else "MISSED"
+            target = f"derive < {LARGE_TARGET_S:.0f} s: {verdict}; load + derive: {total}"
+        rows.append((str(size), str(len(rules.vertices)), f"{loaded:.2f}", f"{derived:.2f}",
+                     f"{1000 * per_line[0]:.1f}", f"{1000 * per_line[1]:.1f}",
+                     f"{per_line[0] / first[0]:.2f}", f"{per_line[1] / first[1]:.2f}", target))
+    print(_table(("lines", "vertices", "load s", "derive s", "load ms/line", "derive ms/line",
+                  f"load per-line / {sizes[0]}", f"derive per-line / {sizes[0]}", "target"), rows))
+    print()
+    if profile:
+        size = max(sizes)
+        text = generate_model(size)
+        for what, run in (("load_model()", lambda: vs.load_model(text=text, name="generated.vsm")),
+                          ("derive()", vs.load_model(text=text, name="generated.vsm").derive)):
+            profiler = cProfile.Profile()
+            profiler.enable()
+            run()
+            profiler.disable()
+            out = io.StringIO()
+            stats = pstats.Stats(profiler, stream=out)
+            stats.sort_stats("cumulative").print_stats(20)
+            stats.sort_stats("tottime").print_stats(10)
+            print(f"profile of {what} on the {size}-line model")
+            print(out.getvalue())
+
+
+# ------------------------------------------------------------------ (c) one large operator
+
+SIX_SCALARS = """theory six_scalars "six identical scalars, two derivatives (invented numbers)"
+parameters
+  mass m = 1.0
+  coupling c = 0.1
+fields
+  scalar phi real mass m
+lagrangian
+  1/2 d[mu] phi d[mu] phi - 1/2 m^2 phi^2
+  c d[mu] phi d[mu] phi phi^4
+"""
+
+
+def bench_operator(repeats: int) -> None:
+    print("(c) one operator: c d[mu] phi d[mu] phi phi^4 (a six-point vertex), median of", repeats)
+    model = vs.load_model(text=SIX_SCALARS, name="six_scalars.vsm")
+    seconds = _median_time(model.derive, repeats)
+    vertex = model.derive().vertex(*["phi"] * 6)
+    print(_table(("operator", "derive s", "terms"), [("c d phi d phi phi^4", f"{seconds:.3f}",
+                                                      str(len(vertex.terms)))]))
+    print()
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--profile", action="store_true", help="profile load_model() and derive() on the largest generated model")
+    parser.add_argument("--repeats", type=int, default=REPEATS, help="runs per median (default 3)")
+    parser.add_argument("--sizes", type=int, nargs="+", default=list(SIZES),
+                        help="Lagrangian lines of the generated models (default 50 200 1000)")
+    args = parser.parse_args(argv)
+    print_machine()
+    bench_cli(args.repeats)
+    bench_generated(tuple(args.sizes), args.profile)
+    bench_operator(args.repeats)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
