@@ -27,6 +27,7 @@ from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, G
                          Vector, canonical_structure, momentum_slots, replace_slot, structure_sort_key)
 
 GAUGES = ("xi", "feynman", "unitary")
+MAX_ASSIGNMENTS = 40_320  # 8!: beyond this one monomial's vertex takes more than seconds
 Species = tuple[str, bool]
 
 
@@ -79,6 +80,18 @@ def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Itera
     legs_of: dict[Species, list[int]] = defaultdict(list)
     for leg in legs:
         legs_of[(leg.field, leg.conjugate)].append(leg.position)
+    count = 1
+    for sp, positions in by_species.items():
+        n = len(positions)
+        if model.fields[sp[0]].is_grassmann:
+            count *= math.factorial(n)
+        else:
+            d = sum(1 for k in positions if _is_decorated(mono.atoms[k]))  # type: ignore[arg-type]
+            count *= math.factorial(n) // math.factorial(n - d)
+    if count > MAX_ASSIGNMENTS:
+        raise DerivationError(f"this term needs {count} leg assignments for one vertex "
+                              f"(the limit is {MAX_ASSIGNMENTS})", mono.origin,
+                              "fewer identical fields with indices or derivatives per term keep it derivable")
     per_species: list[list[tuple[dict[int, int], int]]] = []
     for sp, positions in by_species.items():
         targets = legs_of[sp]
@@ -87,8 +100,7 @@ def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Itera
             options = [(dict(zip(positions, perm)), 1) for perm in itertools.permutations(targets)]
         else:
             # fields that differ by an index or a derivative must be enumerated; the rest are interchangeable
-            decorated = [k for k in positions if mono.atoms[k].index is not None  # type: ignore[union-attr]
-                         or mono.atoms[k].derivatives or mono.atoms[k].group_indices]  # type: ignore[union-attr]
+            decorated = [k for k in positions if _is_decorated(mono.atoms[k])]  # type: ignore[arg-type]
             plain = [k for k in positions if k not in decorated]
             options = []
             for chosen in itertools.permutations(targets, len(decorated)):
@@ -104,6 +116,11 @@ def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Itera
             mapping.update(part)
             multiplicity *= mult
         yield mapping, multiplicity
+
+
+def _is_decorated(atom: FieldAtom) -> bool:
+    """A field factor that an index or a derivative tells apart from its identical siblings."""
+    return atom.index is not None or bool(atom.derivatives) or bool(atom.group_indices)
 
 
 def _grassmann_sign(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> int:
@@ -319,7 +336,11 @@ def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.
 
 
 def _merge_momenta(terms: list[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.Expr, Structure]]:
-    """Join terms that differ only in one momentum slot by a numerical factor: c p1 - c p2 -> c (p1 - p2)."""
+    """Join terms that differ only in one momentum slot by a numerical factor: c p1 - c p2 -> c (p1 - p2).
+
+    Each pass groups the terms by their structure with one momentum slot blanked out and folds
+    every group into its first member; passes repeat until nothing changes.
+    """
     terms = sorted(terms, key=lambda t: structure_sort_key(t[1]))
     changed = True
     while changed:
@@ -327,36 +348,39 @@ def _merge_momenta(terms: list[tuple[sympy.Expr, Structure]]) -> list[tuple[symp
         buckets: dict[tuple, list[int]] = defaultdict(list)
         for n, (_, structure) in enumerate(terms):
             for position in momentum_slots(structure):
-                skeleton = replace_slot(structure, position, Dummy("?"))
-                buckets[(position, skeleton)].append(n)
-        for (position, _), members in sorted(buckets.items(), key=lambda kv: (kv[0][0], kv[1])):
+                buckets[(position, replace_slot(structure, position, Dummy("?")))].append(n)
+        used: set[int] = set()
+        merged_terms: list[tuple[sympy.Expr, Structure]] = []
+        for (position, _), members in buckets.items():
+            members = [n for n in members if n not in used]
             if len(members) < 2:
                 continue
-            i, j = members[0], members[1]
-            ci, si = terms[i]
-            cj, sj = terms[j]
-            ratio = sympy.simplify(cj / ci)
-            if not ratio.is_Rational:
+            first = members[0]
+            c0, s0 = terms[first]
+            total = s0.slots()[position]
+            assert isinstance(total, Momentum)
+            folded = [first]
+            for n in members[1:]:
+                ratio = sympy.nsimplify(terms[n][0] / c0)
+                if ratio.is_Rational:
+                    momentum = terms[n][1].slots()[position]
+                    assert isinstance(momentum, Momentum)
+                    total = total.plus(momentum, Fraction(int(ratio.p), int(ratio.q)))
+                    folded.append(n)
+            if len(folded) < 2:
                 continue
-            pi = si.slots()[position]
-            pj = sj.slots()[position]
-            assert isinstance(pi, Momentum) and isinstance(pj, Momentum)
-            merged = pi.plus(pj, Fraction(int(ratio.p), int(ratio.q)))
-            if not merged.terms:
-                terms = [t for n, t in enumerate(terms) if n not in (i, j)]
-            else:
-                lead = merged.terms[0][1]
-                scale = Fraction(1) if lead > 0 else Fraction(-1)
-                merged = Momentum(tuple((leg, c * scale) for leg, c in merged.terms))
-                structure = replace_slot(si, position, merged)
-                sign, canonical = canonical_structure(structure)
-                assert canonical is not None
-                new = (ci * scale.numerator * sign, canonical)
-                terms = [t for n, t in enumerate(terms) if n not in (i, j)] + [new]
-            terms = sorted(terms, key=lambda t: structure_sort_key(t[1]))
+            used.update(folded)
             changed = True
-            break
-    return terms
+            if total.terms:
+                scale = 1 if total.terms[0][1] > 0 else -1
+                total = Momentum(tuple((leg, c * scale) for leg, c in total.terms))
+                sign, canonical = canonical_structure(replace_slot(s0, position, total))
+                assert canonical is not None
+                merged_terms.append((c0 * scale * sign, canonical))
+        if changed:
+            terms = [t for n, t in enumerate(terms) if n not in used] + merged_terms
+            terms = _collect(terms)
+    return sorted(terms, key=lambda t: structure_sort_key(t[1]))
 
 
 def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial]) -> Vertex | None:
