@@ -261,17 +261,77 @@ def bench_operator(repeats: int) -> None:
     print()
 
 
+def bench_non_abelian(repeats: int) -> None:
+    print("(d) non-abelian models: load_model() + derive(), in process, median of", repeats)
+    rows = []
+    for name in ("qcd", "su2_yang_mills", "dark_su2", "electroweak_unbroken"):
+        path = vs.example(name)
+        seconds = _median_time(lambda: vs.load_model(path).derive(), repeats)
+        rules = vs.load_model(path).derive()
+        rows.append((name, str(len(rules.vertices)), f"{seconds:.2f}", "< 3 s", "ok" if seconds < 3 else "SLOW"))
+    print(_table(("model", "vertices", "seconds", "target", "status"), rows))
+    print()
+
+
+def bench_export(points: int) -> None:
+    print(f"(e) exported Python module: one three-point vertex over {points:,} phase-space points")
+    import importlib.util
+    import tempfile
+
+    import numpy as np
+
+    from vertexsmith.export import export_model
+
+    rows = []
+    with tempfile.TemporaryDirectory() as folder:
+        # the three-gluon vertex has 4*8*4*8*4*8 numbers per point: 48 GiB at 10^5 points, so not here
+        for name, labels in (("qed", ("bar(ele)", "ele", "A")), ("scalar_qed", ("phi", "dag(phi)", "A")),
+                             ("axion_like", ("bar(f)", "f", "a"))):
+            target = Path(folder) / f"rules_{name}.py"
+            export_model(name, to="python", output=target, gauge="feynman")
+            spec = importlib.util.spec_from_file_location(f"rules_{name}", target)
+            assert spec is not None and spec.loader is not None
+            module = importlib.util.module_from_spec(spec)
+            spec.loader.exec_module(module)
+            function = module.VERTICES[labels]
+            momenta = np.random.default_rng(1).normal(size=(len(labels), points, 4))
+            seconds = _median_time(lambda: function(*momenta), 3)
+            rows.append((name, " ".join(labels), f"{seconds:.3f}", f"{seconds / points * 1e6:.2f}"))
+    print(_table(("model", "vertex", "seconds", "us/point"), rows))
+    print()
+
+
+def bench_compare(repeats: int) -> None:
+    print("(f) `compare` of a hand-rules file with the derived rules (in process, derive included), median of",
+          repeats)
+    from vertexsmith.compare import compare_files
+
+    examples = Path(__file__).resolve().parents[1] / "examples"
+    rows = []
+    for name, hand in (("qed", "qed.hand"), ("dark_sector", "dark_sector.hand")):
+        seconds = _median_time(lambda: compare_files(name, examples / hand), repeats)
+        report = compare_files(name, examples / hand)
+        rows.append((name, hand, str(len(report.entries)), f"{seconds:.2f}"))
+    print(_table(("model", "hand file", "rules compared", "seconds"), rows))
+    print()
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--profile", action="store_true", help="profile load_model() and derive() on the largest generated model")
     parser.add_argument("--repeats", type=int, default=REPEATS, help="runs per median (default 3)")
     parser.add_argument("--sizes", type=int, nargs="+", default=list(SIZES),
                         help="Lagrangian lines of the generated models (default 50 200 1000)")
+    parser.add_argument("--points", type=int, default=100_000,
+                        help="phase-space points for the exported-module benchmark (default 100000)")
     args = parser.parse_args(argv)
     print_machine()
     bench_cli(args.repeats)
     bench_generated(tuple(args.sizes), args.profile)
     bench_operator(args.repeats)
+    bench_non_abelian(args.repeats)
+    bench_export(args.points)
+    bench_compare(args.repeats)
     return 0
 
 

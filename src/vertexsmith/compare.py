@@ -43,25 +43,26 @@ import string
 import sys
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
-from functools import lru_cache
 from pathlib import Path
-from typing import TYPE_CHECKING, Any, Callable, Iterator, Mapping, Sequence, Union
+from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 
 import numpy as np
 import sympy
 
-from .errors import ModelMeaningError, ModelSyntaxError, Source, Span, UsageError, VertexsmithError, did_you_mean
+from .errors import ModelMeaningError, Source, Span, UsageError, VertexsmithError, did_you_mean
 from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita, lower, slash
+from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAND_BYTES was defined here
 from .rules import MU, NU, P, Leg, Propagator, Rules, Vertex
 from .symbolic import (Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
                        Sigma, Slash, StructureConstant)
+from .syntax import (HandRule, HandRules, HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient,
+                     HSum)
 
 if TYPE_CHECKING:
     from .model import Model
 
 POINTS = 4  # random phase-space points per rule
 RTOL = 1e-8
-MAX_HAND_BYTES = 1_000_000
 
 EQUAL, CONVENTION, DIFFERENT, UNKNOWN = "equal", "convention", "different", "not in model"
 
@@ -73,295 +74,13 @@ PLUS_I_CONVENTION = "an extra overall factor i (hand = i x derived)"
 MINUS_I_CONVENTION = "a missing overall factor i (hand = -i x derived: vertex written as the coupling, without i)"
 
 
-# ------------------------------------------------------------------ syntax of hand rules
-
-@dataclass(frozen=True)
-class HNumber:
-    value: Fraction
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HName:
-    """A name, optionally with indices: gx, gamma5, gamma[mu3], p1[mu3], g[mu1,mu2]."""
-
-    name: str
-    indices: tuple[tuple[str, Span], ...]
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HDot:
-    left: str
-    right: str
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HIndexed:
-    """(p1 - p2)[mu3]: a momentum combination with an index."""
-
-    base: "HNode"
-    indices: tuple[tuple[str, Span], ...]
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HCall:
-    function: str
-    arguments: tuple["HNode", ...]
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HSum:
-    terms: tuple[tuple[int, "HNode"], ...]
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HProduct:
-    factors: tuple["HNode", ...]
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HQuotient:
-    numerator: "HNode"
-    denominator: "HNode"
-    span: Span = field(compare=False)
-
-
-@dataclass(frozen=True)
-class HPower:
-    base: "HNode"
-    exponent: "HNode"
-    span: Span = field(compare=False)
-
-
-HNode = Union[HNumber, HName, HDot, HIndexed, HCall, HSum, HProduct, HQuotient, HPower]
-
-
-@dataclass(frozen=True)
-class HandRule:
-    """One line of a hand-rules file: a vertex (legs as written) or a propagator (one field)."""
-
-    kind: str  # "vertex" | "propagator"
-    legs: tuple[str, ...]
-    factor: HNode
-    text: str
-    span: Span = field(compare=False)
-    leg_spans: tuple[Span, ...] = field(default=(), compare=False)
-
-
-@dataclass(frozen=True)
-class HandRules:
-    rules: tuple[HandRule, ...]
-    gauge: str | None
-    source: Source
-    gauge_span: Span = field(default=Span(0, 0, 0, 0), compare=False)
-
-
-# The hand-rules language is small and separate from the model language; it is parsed here with
-# lark (the one other place besides parse.py that uses it), because parse.py belongs to the
-# model pipeline and must not grow a second language.
-
-_OPENERS = {"LPAR", "LSQB"}
-_CLOSERS = {"RPAR", "RSQB"}
-_CONTINUING = {"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX", "COMMA", "COLON", "LPAR", "LSQB"}
-
-
-class _LineJoiner:
-    """Drop newlines inside brackets and after a trailing binary operator or the colon."""
-
-    always_accept = ("_NL",)
-
-    def process(self, stream: Iterator[Any]) -> Iterator[Any]:
-        depth = 0
-        previous = None
-        for token in stream:
-            if token.type == "_NL":
-                if depth > 0 or (previous is not None and previous.type in _CONTINUING):
-                    continue
-            elif token.type in _OPENERS:
-                depth += 1
-            elif token.type in _CLOSERS:
-                depth = max(0, depth - 1)
-            previous = token
-            yield token
-
-
-def _grammar_text() -> str:
-    from ._resources import grammar_text
-
-    return grammar_text("handrules.lark")
-
-
-@lru_cache(maxsize=1)
-def _parser() -> Any:
-    from lark import Lark
-
-    return Lark(_grammar_text(), parser="lalr", postlex=_LineJoiner(), propagate_positions=True,
-                maybe_placeholders=False)
-
-
-def _meta_span(meta: Any) -> Span:
-    if getattr(meta, "empty", True):
-        return Span(0, 0, 0, 0)
-    return Span(meta.line, meta.column, meta.end_line, max(meta.column, meta.end_column - 1))
-
-
-def _token_span(token: Any) -> Span:
-    end = (token.end_column or token.column + len(token)) - 1
-    return Span(token.line or 0, token.column or 0, token.end_line or token.line or 0, max(token.column or 0, end))
-
-
-def _transformer() -> Any:
-    from lark import Token, Transformer, v_args
-
-    @v_args(meta=True)
-    class ToHand(Transformer):  # type: ignore[misc]
-        """Lark tree to hand-rule nodes; one method per grammar rule or alias."""
-
-        def number(self, meta: Any, c: list[Any]) -> HNumber:
-            return HNumber(Fraction(str(c[0])), _token_span(c[0]))
-
-        def negative_number(self, meta: Any, c: list[Any]) -> HNumber:
-            return HNumber(-Fraction(str(c[0])), _token_span(c[0]))
-
-        def index_list(self, meta: Any, c: list[Any]) -> tuple[tuple[str, Span], ...]:
-            return tuple((str(t), _token_span(t)) for t in c)
-
-        def name(self, meta: Any, c: list[Any]) -> HName:
-            return HName(str(c[0]), c[1] if len(c) > 1 else (), _meta_span(meta))
-
-        def dot(self, meta: Any, c: list[Any]) -> HDot:
-            return HDot(str(c[0]), str(c[1]), _meta_span(meta))
-
-        def indexed(self, meta: Any, c: list[Any]) -> HIndexed:
-            return HIndexed(c[0], c[1], _meta_span(meta))
-
-        def call(self, meta: Any, c: list[Any]) -> HCall:
-            return HCall(str(c[0]), tuple(c[1:]), _meta_span(meta))
-
-        def _terms(self, node: Any) -> tuple[tuple[int, Any], ...]:
-            return node.terms if isinstance(node, HSum) else ((1, node),)
-
-        def add(self, meta: Any, c: list[Any]) -> HSum:
-            return HSum(self._terms(c[0]) + ((1, c[1]),), _meta_span(meta))
-
-        def sub(self, meta: Any, c: list[Any]) -> HSum:
-            return HSum(self._terms(c[0]) + ((-1, c[1]),), _meta_span(meta))
-
-        def neg(self, meta: Any, c: list[Any]) -> HSum:
-            return HSum(((-1, c[0]),), _meta_span(meta))
-
-        def pos(self, meta: Any, c: list[Any]) -> Any:
-            return c[0]
-
-        def mul(self, meta: Any, c: list[Any]) -> HProduct:
-            left = c[0].factors if isinstance(c[0], HProduct) else (c[0],)
-            return HProduct(left + (c[1],), _meta_span(meta))
-
-        def div(self, meta: Any, c: list[Any]) -> HQuotient:
-            return HQuotient(c[0], c[1], _meta_span(meta))
-
-        def pow(self, meta: Any, c: list[Any]) -> HPower:
-            return HPower(c[0], c[1], _meta_span(meta))
-
-        def plain_leg(self, meta: Any, c: list[Any]) -> tuple[str, Span]:
-            return (str(c[0]), _token_span(c[0]))
-
-        def conjugate_leg(self, meta: Any, c: list[Any]) -> tuple[str, Span]:
-            return (f"{c[0]}({c[1]})", _meta_span(meta))
-
-        def vertex_rule(self, meta: Any, c: list[Any]) -> tuple[str, Any, Any, Span]:
-            return ("vertex", c[:-1], c[-1], _meta_span(meta))
-
-        def propagator_rule(self, meta: Any, c: list[Any]) -> tuple[str, Any, Any, Span]:
-            return ("propagator", c[:-1], c[-1], _meta_span(meta))
-
-        def gauge_choice(self, meta: Any, c: list[Token]) -> tuple[str, str, Span]:
-            return ("gauge", str(c[0]), _token_span(c[0]))
-
-        def start(self, meta: Any, c: list[Any]) -> list[Any]:
-            return list(c)
-
-    return ToHand()
-
-
-_EXPECTED = {"NAME": "a name", "NUMBER": "a number", "_NL": "the end of the line", "LPAR": "'('", "RPAR": "')'",
-             "LSQB": "'['", "RSQB": "']'", "COMMA": "','", "COLON": "':'", "PLUS": "'+'", "MINUS": "'-'",
-             "STAR": "'*'", "SLASH": "'/'", "CIRCUMFLEX": "'^'", "DOT": "'.'", "CONJ": "bar( or dag(",
-             "FUNC": "a function such as slash( or sqrt(", "VERTEX": "'vertex'", "PROPAGATOR": "'propagator'",
-             "GAUGE": "'gauge'", "$END": "the end of the file"}
-
-
-def _rule_text(text: str, span: Span, factor_span: Span) -> str:
-    """The factor as written: the text after the rule's colon, comments dropped, lines joined."""
-    lines = text.splitlines()[span.line - 1:max(span.line, factor_span.end_line)]
-    joined = " ".join(line.split("#", 1)[0].strip() for line in lines)
-    return joined.split(":", 1)[1].strip() if ":" in joined else joined
-
-
 def parse_hand_rules(text: str, name: str = "<hand rules>") -> HandRules:
-    """Parse a hand-rules file into nodes, or raise ModelSyntaxError with file:line:col."""
-    from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken, VisitError
+    """Parse a hand-rules file into nodes, or raise ModelSyntaxError with file:line:col.
 
-    source = Source(name, text)
-    if len(text.encode("utf-8", "replace")) > MAX_HAND_BYTES:
-        raise ModelSyntaxError(f"the hand-rules file is larger than {MAX_HAND_BYTES} bytes").with_source(source)
-    padded = text if text.endswith("\n") else text + "\n"
-    try:
-        items = _transformer().transform(_parser().parse(padded))
-    except VisitError as exc:
-        inner = exc.orig_exc
-        if isinstance(inner, VertexsmithError):
-            raise inner.with_source(source) from None
-        raise ModelSyntaxError(f"could not read the hand rules: {inner}").with_source(source) from None
-    except UnexpectedCharacters as exc:
-        char = padded[exc.pos_in_stream] if 0 <= exc.pos_in_stream < len(padded) else "?"
-        raise ModelSyntaxError(f"unexpected character {char!r}", Span.point(exc.line, exc.column),
-                               "names are letters, digits and underscores; write products with a space or '*'"
-                               ).with_source(source) from None
-    except UnexpectedToken as exc:
-        token = exc.token
-        expected = ", ".join(sorted({_EXPECTED.get(e, repr(e.lower())) for e in exc.expected
-                                     if not e.startswith("__")})[:8])
-        if token.type == "$END":
-            lines = padded.splitlines() or [""]
-            raise ModelSyntaxError("the file ends too early", Span.point(len(lines), len(lines[-1]) + 1),
-                                   f"expected {expected}").with_source(source) from None
-        shown = "end of line" if token.type == "_NL" else repr(str(token))
-        hint = f"expected {expected}"
-        if exc.column == 1 or token.type == "NAME" and "VERTEX" in exc.expected:
-            hint = "a rule starts with 'vertex LEGS : FACTOR', 'propagator FIELD : FACTOR' or 'gauge NAME'"
-        raise ModelSyntaxError(f"unexpected {shown}", Span.point(token.line or exc.line, token.column or exc.column),
-                               hint).with_source(source) from None
-    except UnexpectedEOF:
-        lines = padded.splitlines() or [""]
-        raise ModelSyntaxError("the file ends too early", Span.point(len(lines), len(lines[-1]) + 1),
-                               "close every bracket and finish the last line").with_source(source) from None
-    except UnexpectedInput as exc:  # pragma: no cover - every lark input error is one of the above
-        raise ModelSyntaxError(str(exc).splitlines()[0]).with_source(source) from None
-    except RecursionError:
-        raise ModelSyntaxError("the hand rules nest brackets too deeply").with_source(source) from None
-    rules: list[HandRule] = []
-    gauge: str | None = None
-    gauge_span = Span(0, 0, 0, 0)
-    for item in items:
-        if item[0] == "gauge":
-            if item[1] not in ("xi", "feynman", "unitary"):
-                raise ModelMeaningError(f"unknown gauge '{item[1]}'", item[2],
-                                        "write gauge feynman, gauge unitary or gauge xi").with_source(source)
-            gauge, gauge_span = item[1], item[2]
-            continue
-        kind, legs, factor, span = item
-        if kind == "propagator" and len(legs) != 1:  # pragma: no cover - the grammar allows one leg only
-            raise ModelSyntaxError("a propagator names one field", span).with_source(source)
-        rules.append(HandRule(kind, tuple(label for label, _ in legs), factor, _rule_text(text, span, factor.span), span,
-                              tuple(s for _, s in legs)))
-    return HandRules(tuple(rules), gauge, source, gauge_span)
+    The parser lives with the model's in `parse.py` (`parse_hand_rules_text`); this name stays the
+    entry point of the compare command and its tests.
+    """
+    return parse_hand_rules_text(text, name)
 
 
 def read_hand_rules(path: str | Path) -> HandRules:

@@ -1,43 +1,52 @@
 """Text to syntax nodes: the only module that imports lark.
 
-The parser is built once, lazily. A small post-lexer makes newlines significant only where a
-declaration or a Lagrangian term ends: inside brackets and after a binary operator a line goes on.
-Lark's errors are translated here into `ModelSyntaxError` with a position and a hint.
+Two languages are read here: model files (`parse_text`, grammar/model.lark) and the small files of
+hand-derived rules that `compare` checks (`parse_hand_rules_text`, grammar/handrules.lark). Each
+parser is built once, lazily. A small post-lexer makes newlines significant only where a
+declaration, a Lagrangian term or a rule ends: inside brackets and after a binary operator a line
+goes on. Lark's errors are translated here into `ModelSyntaxError` with a position and a hint.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from fractions import Fraction
 from functools import lru_cache
-from typing import Any, Iterator
+from typing import Any, Callable, Iterator, Mapping
 
 from lark import Lark, Token, Transformer, v_args
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken, VisitError
 
 from . import syntax as sx
 from ._resources import grammar_text
-from .errors import ModelSyntaxError, Source, Span, VertexsmithError
+from .errors import ModelMeaningError, ModelSyntaxError, Source, Span, VertexsmithError
 
 MAX_MODEL_BYTES = 2_000_000
+MAX_HAND_BYTES = 1_000_000
 
 _PARAM_WORDS = {"MASS", "COUPLING", "ANGLE", "WIDTH", "PARAMETER", "REAL", "COMPLEX"}
 _OPENERS = {"LPAR", "LSQB"}
 _CLOSERS = {"RPAR", "RSQB"}
-# a line that ends in one of these goes on to the next line
-_CONTINUING = {"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX", "COMMA", "EQUAL", "LPAR", "LSQB"}
+# a line that ends in one of these goes on to the next line; in hand rules also one that ends in
+# the colon between the legs and the factor (no '=' there)
+_CONTINUING = frozenset({"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX", "COMMA", "EQUAL", "LPAR", "LSQB"})
+_HAND_CONTINUING = frozenset({"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX", "COMMA", "COLON", "LPAR", "LSQB"})
 
 
 class _LineJoiner:
-    """Drop newlines inside brackets and after a trailing binary operator."""
+    """Drop newlines inside brackets and after a token of `continuing` (a trailing operator)."""
 
     always_accept = ("_NL",)
+
+    def __init__(self, continuing: frozenset[str]) -> None:
+        self.continuing = continuing
 
     def process(self, stream: Iterator[Token]) -> Iterator[Token]:
         depth = 0
         previous: Token | None = None
         for token in stream:
             if token.type == "_NL":
-                if depth > 0 or (previous is not None and previous.type in _CONTINUING):
+                if depth > 0 or (previous is not None and previous.type in self.continuing):
                     continue
             elif token.type in _OPENERS:
                 depth += 1
@@ -47,10 +56,10 @@ class _LineJoiner:
             yield token
 
 
-@lru_cache(maxsize=1)
-def _parser() -> Lark:
-    return Lark(grammar_text(), parser="lalr", postlex=_LineJoiner(), propagate_positions=True,
-                maybe_placeholders=False)
+@lru_cache(maxsize=2)
+def _parser(language: _Language) -> Lark:
+    return Lark(grammar_text(language.grammar), parser="lalr", postlex=_LineJoiner(language.continuing),
+                propagate_positions=True, maybe_placeholders=False)
 
 
 def _span(meta: Any) -> Span:
@@ -78,8 +87,50 @@ def _string(token: Token | None) -> str:
 
 
 @v_args(meta=True)
-class _ToSyntax(Transformer):
-    """Lark tree to syntax nodes; one method per grammar rule or alias."""
+class _Operators(Transformer):
+    """Signed sums, products, quotients and powers, built alike in both languages.
+
+    Each subclass names its own node classes. Left-nested sums and products are flattened; a
+    bracketed model expression is an `sx.Group` and stays whole.
+    """
+
+    _sum: type[Any]
+    _product: type[Any]
+    _quotient: type[Any]
+    _power: type[Any]
+
+    def _summands(self, node: Any) -> tuple[tuple[int, Any], ...]:
+        return node.terms if isinstance(node, self._sum) else ((1, node),)
+
+    def add(self, meta: Any, children: list[Any]) -> Any:
+        return self._sum(self._summands(children[0]) + ((1, children[1]),), _span(meta))
+
+    def sub(self, meta: Any, children: list[Any]) -> Any:
+        return self._sum(self._summands(children[0]) + ((-1, children[1]),), _span(meta))
+
+    def neg(self, meta: Any, children: list[Any]) -> Any:
+        return self._sum(((-1, children[0]),), _span(meta))
+
+    def pos(self, meta: Any, children: list[Any]) -> Any:
+        return children[0]
+
+    def mul(self, meta: Any, children: list[Any]) -> Any:
+        left, right = children
+        factors = left.factors if isinstance(left, self._product) else (left,)
+        return self._product(factors + (right,), _span(meta))
+
+    def div(self, meta: Any, children: list[Any]) -> Any:
+        return self._quotient(children[0], children[1], _span(meta))
+
+    def pow(self, meta: Any, children: list[Any]) -> Any:
+        return self._power(children[0], children[1], _span(meta))
+
+
+@v_args(meta=True)
+class _ToSyntax(_Operators):
+    """Lark tree to syntax nodes; one method per grammar rule or alias (operators in `_Operators`)."""
+
+    _sum, _product, _quotient, _power = sx.Sum, sx.Product, sx.Quotient, sx.Power
 
     # --- expressions
     def number(self, meta: Any, children: list[Any]) -> sx.Number:
@@ -100,33 +151,6 @@ class _ToSyntax(Transformer):
 
     def hc(self, meta: Any, children: list[Any]) -> sx.HermitianConjugate:
         return sx.HermitianConjugate(_span(meta))
-
-    def _summands(self, node: Any) -> tuple[tuple[int, Any], ...]:
-        # flatten left-nested sums, but not bracketed ones (those are sx.Group)
-        return node.terms if isinstance(node, sx.Sum) else ((1, node),)
-
-    def add(self, meta: Any, children: list[Any]) -> sx.Sum:
-        return sx.Sum(self._summands(children[0]) + ((1, children[1]),), _span(meta))
-
-    def sub(self, meta: Any, children: list[Any]) -> sx.Sum:
-        return sx.Sum(self._summands(children[0]) + ((-1, children[1]),), _span(meta))
-
-    def neg(self, meta: Any, children: list[Any]) -> sx.Sum:
-        return sx.Sum(((-1, children[0]),), _span(meta))
-
-    def pos(self, meta: Any, children: list[Any]) -> Any:
-        return children[0]
-
-    def mul(self, meta: Any, children: list[Any]) -> sx.Product:
-        left, right = children
-        factors = left.factors if isinstance(left, sx.Product) else (left,)
-        return sx.Product(factors + (right,), _span(meta))
-
-    def div(self, meta: Any, children: list[Any]) -> sx.Quotient:
-        return sx.Quotient(children[0], children[1], _span(meta))
-
-    def pow(self, meta: Any, children: list[Any]) -> sx.Power:
-        return sx.Power(children[0], children[1], _span(meta))
 
     def exp_number(self, meta: Any, children: list[Any]) -> sx.Number:
         return sx.Number(str(children[0]), _span(meta))
@@ -265,6 +289,54 @@ class _ToSyntax(Transformer):
                                            ("parameters", "fields", "gauges", "definitions", "terms", "conventions")))
 
 
+@v_args(meta=True)
+class _ToHandRules(_Operators):
+    """Lark tree of a hand-rules file to hand-rule nodes; one method per grammar rule or alias."""
+
+    _sum, _product, _quotient, _power = sx.HSum, sx.HProduct, sx.HQuotient, sx.HPower
+
+    # --- factors
+    def number(self, meta: Any, c: list[Any]) -> sx.HNumber:
+        return sx.HNumber(Fraction(str(c[0])), _token_span(c[0]))
+
+    def negative_number(self, meta: Any, c: list[Any]) -> sx.HNumber:
+        return sx.HNumber(-Fraction(str(c[0])), _token_span(c[0]))
+
+    def index_list(self, meta: Any, c: list[Any]) -> tuple[tuple[str, Span], ...]:
+        return tuple((str(t), _token_span(t)) for t in c)
+
+    def name(self, meta: Any, c: list[Any]) -> sx.HName:
+        return sx.HName(str(c[0]), c[1] if len(c) > 1 else (), _span(meta))
+
+    def dot(self, meta: Any, c: list[Any]) -> sx.HDot:
+        return sx.HDot(str(c[0]), str(c[1]), _span(meta))
+
+    def indexed(self, meta: Any, c: list[Any]) -> sx.HIndexed:
+        return sx.HIndexed(c[0], c[1], _span(meta))
+
+    def call(self, meta: Any, c: list[Any]) -> sx.HCall:
+        return sx.HCall(str(c[0]), tuple(c[1:]), _span(meta))
+
+    # --- rules: tuples that parse_hand_rules_text turns into HandRule records
+    def plain_leg(self, meta: Any, c: list[Any]) -> tuple[str, Span]:
+        return (str(c[0]), _token_span(c[0]))
+
+    def conjugate_leg(self, meta: Any, c: list[Any]) -> tuple[str, Span]:
+        return (f"{c[0]}({c[1]})", _span(meta))
+
+    def vertex_rule(self, meta: Any, c: list[Any]) -> tuple[str, Any, Any, Span]:
+        return ("vertex", c[:-1], c[-1], _span(meta))
+
+    def propagator_rule(self, meta: Any, c: list[Any]) -> tuple[str, Any, Any, Span]:
+        return ("propagator", c[:-1], c[-1], _span(meta))
+
+    def gauge_choice(self, meta: Any, c: list[Token]) -> tuple[str, str, Span]:
+        return ("gauge", str(c[0]), _token_span(c[0]))
+
+    def start(self, meta: Any, c: list[Any]) -> list[Any]:
+        return list(c)
+
+
 _EXPECTED_WORDS = {
     "NAME": "a name", "NUMBER": "a number", "STRING": "a quoted description", "_NL": "the end of the line",
     "LPAR": "'('", "RPAR": "')'", "LSQB": "'['", "RSQB": "']'", "COMMA": "','", "EQUAL": "'='",
@@ -274,46 +346,92 @@ _EXPECTED_WORDS = {
     "THEORY": "'theory'", "$END": "the end of the file",
 }
 
+_HAND_EXPECTED_WORDS = {
+    "NAME": "a name", "NUMBER": "a number", "_NL": "the end of the line", "LPAR": "'('", "RPAR": "')'",
+    "LSQB": "'['", "RSQB": "']'", "COMMA": "','", "COLON": "':'", "PLUS": "'+'", "MINUS": "'-'",
+    "STAR": "'*'", "SLASH": "'/'", "CIRCUMFLEX": "'^'", "DOT": "'.'", "CONJ": "bar( or dag(",
+    "FUNC": "a function such as slash( or sqrt(", "VERTEX": "'vertex'", "PROPAGATOR": "'propagator'",
+    "GAUGE": "'gauge'", "$END": "the end of the file",
+}
+
 _SECTION_WORDS = ("parameters", "fields", "gauge", "define", "lagrangian", "conventions")
+_NAMES_HINT = "names are letters, digits and underscores; write products with a space or '*'"
 
 
-def _describe_expected(expected: set[str]) -> str:
-    words = sorted({_EXPECTED_WORDS.get(e, f"'{e.lower()}'" if e.isupper() and len(e) > 1 else e)
-                    for e in expected if not e.startswith("__")})
-    return ", ".join(words[:8])
+def _describe_expected(expected: set[str], words: Mapping[str, str]) -> str:
+    described = sorted({words.get(e, f"'{e.lower()}'" if e.isupper() and len(e) > 1 else e)
+                        for e in expected if not e.startswith("__")})
+    return ", ".join(described[:8])
 
 
-def _syntax_error(exc: UnexpectedInput, text: str) -> ModelSyntaxError:
+def _model_character_hint(char: str) -> str:
+    return "strings are written in double quotes" if char == "'" else _NAMES_HINT
+
+
+def _model_token_hint(exc: UnexpectedToken, at: Span, expected: str) -> str:
+    token = exc.token
+    if at.line == 1 and token.type != "THEORY" and "THEORY" in exc.expected:
+        return "a model file starts with: theory NAME \"description\""
+    if str(token) in _SECTION_WORDS:
+        return f"'{token}' starts a section; it stands alone on its line"
+    if "_NL" in exc.expected and token.type in ("NAME", "NUMBER"):
+        return f"expected {expected}; a declaration or term ends at the end of its line"
+    return f"expected {expected}"
+
+
+def _hand_token_hint(exc: UnexpectedToken, at: Span, expected: str) -> str:
+    if exc.column == 1 or exc.token.type == "NAME" and "VERTEX" in exc.expected:
+        return "a rule starts with 'vertex LEGS : FACTOR', 'propagator FIELD : FACTOR' or 'gauge NAME'"
+    return f"expected {expected}"
+
+
+@dataclass(frozen=True, eq=False)
+class _Language:
+    """One language read here: its grammar and Transformer, and the wording of its errors."""
+
+    grammar: str
+    continuing: frozenset[str]
+    transformer: Callable[[], Transformer]
+    noun: str  # as in "could not read the model: ..."
+    expected_words: Mapping[str, str]
+    character_hint: Callable[[str], str]
+    token_hint: Callable[[UnexpectedToken, Span, str], str]
+    too_deep: str
+    too_deep_hint: str = ""
+    points_at_open_bracket: bool = False  # "the file ends too early" becomes "this bracket is never closed"
+
+
+_MODEL = _Language("model.lark", _CONTINUING, _ToSyntax, "the model", _EXPECTED_WORDS, _model_character_hint,
+                   _model_token_hint, "the model nests brackets too deeply", "flatten the expression",
+                   points_at_open_bracket=True)
+_HAND_RULES = _Language("handrules.lark", _HAND_CONTINUING, _ToHandRules, "the hand rules", _HAND_EXPECTED_WORDS,
+                        lambda char: _NAMES_HINT, _hand_token_hint, "the hand rules nest brackets too deeply")
+
+
+def _ends_early(text: str, hint: str) -> ModelSyntaxError:
+    lines = text.splitlines() or [""]
+    return ModelSyntaxError("the file ends too early", Span.point(len(lines), len(lines[-1]) + 1), hint)
+
+
+def _syntax_error(exc: UnexpectedInput, text: str, language: _Language) -> ModelSyntaxError:
     line = getattr(exc, "line", 0) or 0
     column = getattr(exc, "column", 0) or 0
     if isinstance(exc, UnexpectedCharacters):
         char = text[exc.pos_in_stream] if 0 <= exc.pos_in_stream < len(text) else "?"
-        hint = "names are letters, digits and underscores; write products with a space or '*'"
-        if char == "'":
-            hint = "strings are written in double quotes"
-        return ModelSyntaxError(f"unexpected character {char!r}", Span.point(line, column), hint)
+        return ModelSyntaxError(f"unexpected character {char!r}", Span.point(line, column),
+                                language.character_hint(char))
     if isinstance(exc, UnexpectedToken):
         token = exc.token
-        expected = _describe_expected(set(exc.expected))
+        expected = _describe_expected(set(exc.expected), language.expected_words)
         if token.type == "$END":
-            lines = text.splitlines() or [""]
-            return ModelSyntaxError("the file ends too early", Span.point(len(lines), len(lines[-1]) + 1),
-                                    f"expected {expected}")
+            return _ends_early(text, f"expected {expected}")
         shown = "end of line" if token.type == "_NL" else repr(str(token))
         if token.type == "_NL":
             line, column = token.line or line, token.column or column
-        hint = f"expected {expected}"
-        if line == 1 and token.type != "THEORY" and "THEORY" in exc.expected:
-            hint = "a model file starts with: theory NAME \"description\""
-        elif str(token) in _SECTION_WORDS:
-            hint = f"'{token}' starts a section; it stands alone on its line"
-        elif "_NL" in exc.expected and token.type in ("NAME", "NUMBER"):
-            hint = f"expected {expected}; a declaration or term ends at the end of its line"
-        return ModelSyntaxError(f"unexpected {shown}", Span.point(line, column), hint)
+        at = Span.point(line, column)
+        return ModelSyntaxError(f"unexpected {shown}", at, language.token_hint(exc, at, expected))
     if isinstance(exc, UnexpectedEOF):
-        lines = text.splitlines() or [""]
-        return ModelSyntaxError("the file ends too early", Span.point(len(lines), len(lines[-1]) + 1),
-                                "close every bracket and finish the last line")
+        return _ends_early(text, "close every bracket and finish the last line")
     return ModelSyntaxError(str(exc).splitlines()[0], Span.point(line, column))
 
 
@@ -336,6 +454,27 @@ def _unclosed_bracket(text: str) -> tuple[int, int] | None:
     return stack[-1] if stack else None
 
 
+def _read(text: str, source: Source, language: _Language) -> Any:
+    """Parse and transform `text`; every failure becomes one of our errors, carrying `source`."""
+    padded = text if text.endswith("\n") else text + "\n"
+    try:
+        return language.transformer().transform(_parser(language).parse(padded))
+    except VisitError as exc:
+        inner = exc.orig_exc
+        if isinstance(inner, VertexsmithError):
+            raise inner.with_source(source) from None
+        raise ModelSyntaxError(f"could not read {language.noun}: {inner}").with_source(source) from None
+    except UnexpectedInput as exc:
+        error = _syntax_error(exc, padded, language)
+        opener = _unclosed_bracket(padded) if language.points_at_open_bracket else None
+        if opener is not None and error.message == "the file ends too early":
+            error = ModelSyntaxError("this bracket is never closed", Span.point(*opener),
+                                     "close it on the same term; a line goes on while a bracket is open")
+        raise error.with_source(source) from None
+    except RecursionError:
+        raise ModelSyntaxError(language.too_deep, hint=language.too_deep_hint).with_source(source) from None
+
+
 def parse_text(text: str, name: str = "<model>") -> sx.ModelFile:
     """Parse model-file text into syntax nodes, or raise `ModelSyntaxError` with a position."""
     source = Source(name, text)
@@ -348,24 +487,40 @@ def parse_text(text: str, name: str = "<model>") -> sx.ModelFile:
         column = offset - (text.rfind("\n", 0, offset) + 1) + 1
         raise ModelSyntaxError("the file contains a NUL byte; is it a text file?",
                                Span.point(line, column), "save the model as plain UTF-8 text").with_source(source)
-    padded = text if text.endswith("\n") else text + "\n"
-    try:
-        tree = _parser().parse(padded)
-        result = _ToSyntax().transform(tree)
-    except VisitError as exc:
-        inner = exc.orig_exc
-        if isinstance(inner, VertexsmithError):
-            raise inner.with_source(source) from None
-        raise ModelSyntaxError(f"could not read the model: {inner}").with_source(source) from None
-    except UnexpectedInput as exc:
-        error = _syntax_error(exc, padded)
-        opener = _unclosed_bracket(padded)
-        if opener is not None and error.message == "the file ends too early":
-            error = ModelSyntaxError("this bracket is never closed", Span.point(*opener),
-                                     "close it on the same term; a line goes on while a bracket is open")
-        raise error.with_source(source) from None
-    except RecursionError:
-        raise ModelSyntaxError("the model nests brackets too deeply",
-                               hint="flatten the expression").with_source(source) from None
+    result = _read(text, source, _MODEL)
     assert isinstance(result, sx.ModelFile)
     return result
+
+
+def _rule_text(text: str, span: Span, factor_span: Span) -> str:
+    """The factor as written: the text after the rule's colon, comments dropped, lines joined."""
+    lines = text.splitlines()[span.line - 1:max(span.line, factor_span.end_line)]
+    joined = " ".join(line.split("#", 1)[0].strip() for line in lines)
+    return joined.split(":", 1)[1].strip() if ":" in joined else joined
+
+
+def parse_hand_rules_text(text: str, name: str = "<hand rules>") -> sx.HandRules:
+    """Parse a file of hand-derived rules into nodes, or raise `ModelSyntaxError` with a position.
+
+    The `gauge` line is checked against the three gauges here (`ModelMeaningError`); what the
+    names inside a factor mean is left to `compare`, which evaluates the factors.
+    """
+    source = Source(name, text)
+    if len(text.encode("utf-8", "replace")) > MAX_HAND_BYTES:
+        raise ModelSyntaxError(f"the hand-rules file is larger than {MAX_HAND_BYTES} bytes").with_source(source)
+    rules: list[sx.HandRule] = []
+    gauge: str | None = None
+    gauge_span = Span(0, 0, 0, 0)
+    for item in _read(text, source, _HAND_RULES):
+        if item[0] == "gauge":
+            if item[1] not in ("xi", "feynman", "unitary"):
+                raise ModelMeaningError(f"unknown gauge '{item[1]}'", item[2],
+                                        "write gauge feynman, gauge unitary or gauge xi").with_source(source)
+            gauge, gauge_span = item[1], item[2]
+            continue
+        kind, legs, factor, span = item
+        if kind == "propagator" and len(legs) != 1:  # pragma: no cover - the grammar allows one leg only
+            raise ModelSyntaxError("a propagator names one field", span).with_source(source)
+        rules.append(sx.HandRule(kind, tuple(label for label, _ in legs), factor, _rule_text(text, span, factor.span),
+                                 span, tuple(s for _, s in legs)))
+    return sx.HandRules(tuple(rules), gauge, source, gauge_span)

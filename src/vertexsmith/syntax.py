@@ -1,7 +1,8 @@
 """Syntax nodes: what the model file says, with where it says it, and no meaning yet.
 
 The parser produces these frozen records; `build` gives them meaning. Expressions keep the
-order of their factors, because gamma matrices and fermion fields do not commute.
+order of their factors, because gamma matrices and fermion fields do not commute. The last
+section holds the nodes of the hand-derived rules that `compare` reads.
 """
 
 from __future__ import annotations
@@ -10,7 +11,7 @@ from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Union
 
-from .errors import Span
+from .errors import Source, Span
 
 
 @dataclass(frozen=True)
@@ -187,3 +188,96 @@ class ModelFile:
     definitions: tuple[Definition, ...]
     terms: tuple[LagrangianTerm, ...]
     conventions: tuple[Convention, ...]
+
+
+# ------------------------------------------------------------------ hand-derived rules
+# The small language of `grammar/handrules.lark`, read by `parse.parse_hand_rules_text` for the
+# `compare` command. Its nodes are separate from the model's: numbers are already exact, a
+# momentum contraction `p1.p2` and an indexed bracket `(p1 - p2)[mu3]` are nodes of their own,
+# and what the names mean is decided in compare.py.
+
+@dataclass(frozen=True)
+class HNumber:
+    value: Fraction
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HName:
+    """A name, optionally with indices: gx, gamma5, gamma[mu3], p1[mu3], g[mu1,mu2]."""
+
+    name: str
+    indices: tuple[tuple[str, Span], ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HDot:
+    left: str
+    right: str
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HIndexed:
+    """(p1 - p2)[mu3]: a momentum combination with an index."""
+
+    base: "HNode"
+    indices: tuple[tuple[str, Span], ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HCall:
+    function: str
+    arguments: tuple["HNode", ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HSum:
+    terms: tuple[tuple[int, "HNode"], ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HProduct:
+    factors: tuple["HNode", ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HQuotient:
+    numerator: "HNode"
+    denominator: "HNode"
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
+class HPower:
+    base: "HNode"
+    exponent: "HNode"
+    span: Span = field(compare=False)
+
+
+HNode = Union[HNumber, HName, HDot, HIndexed, HCall, HSum, HProduct, HQuotient, HPower]
+
+
+@dataclass(frozen=True)
+class HandRule:
+    """One line of a hand-rules file: a vertex (legs as written) or a propagator (one field)."""
+
+    kind: str  # "vertex" | "propagator"
+    legs: tuple[str, ...]
+    factor: HNode
+    text: str
+    span: Span = field(compare=False)
+    leg_spans: tuple[Span, ...] = field(default=(), compare=False)
+
+
+@dataclass(frozen=True)
+class HandRules:
+    rules: tuple[HandRule, ...]
+    gauge: str | None
+    source: Source
+    gauge_span: Span = field(default=Span(0, 0, 0, 0), compare=False)
