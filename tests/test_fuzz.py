@@ -41,7 +41,7 @@ def _exercise(text: str, evaluate: bool = False) -> None:
         rules = model.derive()
         for vertex in rules.vertices:
             str(vertex.factor)
-            vertex.latex
+            _ = vertex.latex
             if evaluate:
                 momenta = np.arange(4 * len(vertex.legs), dtype=float).reshape(len(vertex.legs), 4) / 7.0
                 try:

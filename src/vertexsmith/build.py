@@ -251,7 +251,7 @@ class _Builder:
             if c.key == "covariant" and c.value in ("minus", "plus"):
                 covariant = 1 if c.value == "minus" else -1
             elif c.key == "eps0123" and c.value in (Fraction(1), Fraction(-1)):
-                eps = int(c.value)  # type: ignore[arg-type]
+                eps = int(c.value)
             else:
                 raise ModelMeaningError(f"unknown convention '{c.key} {c.value}'", c.span,
                                         "write 'covariant minus' (D = d - i g Q A), 'covariant plus', "
@@ -315,7 +315,7 @@ class _Builder:
         declared = [i.name for i in d.indices]
         if len(set(declared)) != len(declared):
             raise ModelMeaningError(f"definition '{d.name}' repeats an index", d.span, "give each index its own name")
-        for index, count in free.items():
+        for index in free:
             if index not in declared:
                 raise ModelMeaningError(f"index '{index}' is left free in definition '{d.name}'",
                                         self._index_span(d.body, index) or d.span,

@@ -41,10 +41,9 @@ import sympy
 from . import model as m
 from .derive import (canonical_legs, check_chains, derive_rules, make_legs, monomial_terms, quadratic_kernel,
                      species_of)
-from .errors import DerivationError, Source, Span, VertexsmithError, format_diagnostic
+from .errors import Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, expand_model
 from .rules import P2, Vertex, VertexTerm
-from .structures import Chiral, Dot, Gamma, GroupDelta, Metric, Momentum, Sigma, Vector
 
 SEVERITIES = ("error", "warning", "note")
 
@@ -239,10 +238,10 @@ class _Checker:
                            for a in mono.fields), start=Fraction(0))
                 if net != 0:
                     found.setdefault((mono.origin.line, group.name), (mono.origin, set()))[1].add(net)
-        for (_, group), (span, charges) in found.items():
+        for (_, group_name), (span, charges) in found.items():
             shown = ", ".join(_show_charge(q) for q in sorted(charges))
             what = "net charge is" if len(charges) == 1 else "net charges are"
-            self.add("error", f"term is not neutral under '{group}': its {what} {shown}", span,
+            self.add("error", f"term is not neutral under '{group_name}': its {what} {shown}", span,
                      "the charges of every term must add up to 0 (bar() and dag() fields count with the "
                      "opposite sign): check the charges in the fields section and the conjugations in this term")
 
@@ -360,7 +359,7 @@ class _Checker:
                 return
         if declared == 0:
             self.add("warning", f"'{f.name}' is declared massless, but its quadratic terms give {what}", span,
-                     f"declare its mass in the fields section (mass ...), or remove the mass term")
+                     "declare its mass in the fields section (mass ...), or remove the mass term")
         elif found == 0:
             self.add("warning", f"'{f.name}' is declared with mass {_show(declared)}, but the lagrangian has no mass "
                      "term for it", span, f"add {mass_text}")

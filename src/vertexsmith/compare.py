@@ -166,7 +166,7 @@ class _Context:
         self.eps0123 = self.model.conventions.eps0123
 
     def error(self, message: str, span: Span, hint: str = "") -> ModelMeaningError:
-        return ModelMeaningError(message, span, hint).with_source(self.source)  # type: ignore[return-value]
+        return ModelMeaningError(message, span, hint).with_source(self.source)
 
     def known_names(self) -> list[str]:
         return sorted(set(self.parameters) | set(self.xi) | set(self.momentum_names)
@@ -437,8 +437,9 @@ class _Numeric:
             if ctx.legs[j - 1].conjugate or ctx.legs[j - 1].kind not in ("dirac", "majorana"):
                 raise ctx.error(f"leg {j} of chain() must be a fermion leg without bar()", args[1].span)
             return _Value(matrix, inner.axes + (f"#s{i}", f"#s{j}"), False, False, tuple(sorted((i, j))))
-        functions = {"sqrt": np.sqrt, "conj": np.conj, "sin": np.sin, "cos": np.cos, "tan": np.tan,
-                     "exp": np.exp, "log": np.log, "re": np.real, "im": np.imag}
+        functions: dict[str, Callable[[complex], Any]] = {
+            "sqrt": np.sqrt, "conj": np.conj, "sin": np.sin, "cos": np.cos, "tan": np.tan,
+            "exp": np.exp, "log": np.log, "re": np.real, "im": np.imag}
         self._arity(node, 1)
         x = self._plain(self.evaluate(args[0]), args[0].span, f"the argument of {f}()")
         return self.scalar(complex(functions[f](complex(x))))

@@ -18,7 +18,7 @@ from typing import Iterable, Iterator
 import sympy
 
 from . import model as m
-from .errors import DerivationError, Span, UsageError
+from .errors import DerivationError, UsageError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom, expand_model
 from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
@@ -74,9 +74,11 @@ def make_legs(model: m.Model, species: list[Species]) -> tuple[Leg, ...]:
 def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Iterator[tuple[dict[int, int], int]]:
     """(atom position -> leg position, multiplicity) for every distinct assignment."""
     by_species: dict[Species, list[int]] = defaultdict(list)
+    field_atoms: dict[int, FieldAtom] = {}
     for k, atom in enumerate(mono.atoms):
         if isinstance(atom, FieldAtom):
             by_species[species_of(model, atom)].append(k)
+            field_atoms[k] = atom
     legs_of: dict[Species, list[int]] = defaultdict(list)
     for leg in legs:
         legs_of[(leg.field, leg.conjugate)].append(leg.position)
@@ -86,7 +88,7 @@ def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Itera
         if model.fields[sp[0]].is_grassmann:
             count *= math.factorial(n)
         else:
-            d = sum(1 for k in positions if _is_decorated(mono.atoms[k]))  # type: ignore[arg-type]
+            d = sum(1 for k in positions if _is_decorated(field_atoms[k]))
             count *= math.factorial(n) // math.factorial(n - d)
     if count > MAX_ASSIGNMENTS:
         raise DerivationError(f"this term needs {count} leg assignments for one vertex "
@@ -100,14 +102,14 @@ def _assignments(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> Itera
             options = [(dict(zip(positions, perm)), 1) for perm in itertools.permutations(targets)]
         else:
             # fields that differ by an index or a derivative must be enumerated; the rest are interchangeable
-            decorated = [k for k in positions if _is_decorated(mono.atoms[k])]  # type: ignore[arg-type]
+            decorated = [k for k in positions if _is_decorated(field_atoms[k])]
             plain = [k for k in positions if k not in decorated]
             options = []
             for chosen in itertools.permutations(targets, len(decorated)):
                 rest = [t for t in targets if t not in chosen]
-                mapping = dict(zip(decorated, chosen))
-                mapping.update(zip(plain, rest))
-                options.append((mapping, math.factorial(len(plain))))
+                option = dict(zip(decorated, chosen))
+                option.update(zip(plain, rest))
+                options.append((option, math.factorial(len(plain))))
         per_species.append(options)
     for combo in itertools.product(*per_species):
         mapping: dict[int, int] = {}
@@ -190,8 +192,8 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
     lines: dict[str, list[tuple]] = defaultdict(list)
     for index, items in ends.items():
         lines[uf.find(index)].extend(items)
-    for root in set(uf.parent.values()) - set(lines):
-        factor *= 4  # a closed loop of metrics: g^mu_mu = 4
+    for _ in {uf.find(name) for name in uf.parent} - set(lines):
+        factor *= 4  # a closed loop of metrics, g[a,b] g[b,a]: g^mu_mu = 4
     fill: dict[tuple[int, int], Slot] = {}
     tensors: list = []
     group_tensors: list = []
@@ -216,15 +218,16 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
         slots = [it for it in items if it[0] == "slot"]
         values = [LegIndex(it[1]) if it[0] == "leg" else Momentum.of(it[1]) for it in providers]
         if len(providers) == 2:
-            a, b = values
-            if isinstance(a, LegIndex) and isinstance(b, LegIndex):
-                tensors.append(Metric(a, b))
-            elif isinstance(a, Momentum) and isinstance(b, Momentum):
-                tensors.append(Dot(a, b))
+            left, right = values
+            if isinstance(left, LegIndex) and isinstance(right, LegIndex):
+                tensors.append(Metric(left, right))
+            elif isinstance(left, Momentum) and isinstance(right, Momentum):
+                tensors.append(Dot(left, right))
+            elif isinstance(left, Momentum):
+                tensors.append(Vector(left, right))
             else:
-                mom = a if isinstance(a, Momentum) else b
-                idx = b if isinstance(a, Momentum) else a
-                tensors.append(Vector(mom, idx))  # type: ignore[arg-type]
+                assert isinstance(right, Momentum)
+                tensors.append(Vector(right, left))
         elif len(providers) == 1:
             fill[(slots[0][1], slots[0][2])] = values[0]
         else:
@@ -237,12 +240,12 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
     for k, atom in enumerate(mono.atoms):
         if isinstance(atom, GroupAtom):
             if atom.kind == "T":
-                group_tensors.append(Generator(atom.group, tuple(fill[(k, n)] for n in range(3))))  # type: ignore
+                group_tensors.append(Generator(atom.group, (fill[(k, 0)], fill[(k, 1)], fill[(k, 2)])))
             elif atom.kind == "f":
-                group_tensors.append(StructureConstant(atom.group, tuple(fill[(k, n)] for n in range(3))))  # type: ignore
+                group_tensors.append(StructureConstant(atom.group, (fill[(k, 0)], fill[(k, 1)], fill[(k, 2)])))
         elif isinstance(atom, TensorAtom):
             if atom.kind == "eps":
-                tensors.append(Epsilon(tuple(fill[(k, n)] for n in range(4))))  # type: ignore[arg-type]
+                tensors.append(Epsilon((fill[(k, 0)], fill[(k, 1)], fill[(k, 2)], fill[(k, 3)])))
         elif isinstance(atom, DiracAtom):
             slots_ = tuple(fill[(k, n)] for n in range(len(atom.indices)))
             if atom.kind == "gamma":

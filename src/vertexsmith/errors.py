@@ -8,6 +8,7 @@ hint saying what to write instead.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Iterable, TypeVar
 
 
 @dataclass(frozen=True)
@@ -39,6 +40,9 @@ class Source:
         return lines[number - 1] if 0 < number <= len(lines) else ""
 
 
+_E = TypeVar("_E", bound="VertexsmithError")
+
+
 class VertexsmithError(Exception):
     """Root of every error vertexsmith reports to a user."""
 
@@ -52,7 +56,7 @@ class VertexsmithError(Exception):
         self.hint = hint
         self.source = source
 
-    def with_source(self, source: Source) -> "VertexsmithError":
+    def with_source(self: _E, source: Source) -> _E:
         if self.source is None:
             self.source = source
         return self
@@ -97,14 +101,14 @@ def format_diagnostic(severity: str, message: str, span: Span, hint: str = "",
     return "\n".join(lines)
 
 
-def nearest_names(name: str, candidates: "list[str] | set[str] | tuple[str, ...]", limit: int = 3) -> list[str]:
+def nearest_names(name: str, candidates: Iterable[str], limit: int = 3) -> list[str]:
     """Declared names closest to a misspelt one, for 'did you mean' hints."""
     import difflib
 
     return difflib.get_close_matches(name, sorted(set(candidates)), n=limit, cutoff=0.5)
 
 
-def did_you_mean(name: str, candidates: "list[str] | set[str] | tuple[str, ...]", fallback: str = "") -> str:
+def did_you_mean(name: str, candidates: Iterable[str], fallback: str = "") -> str:
     close = nearest_names(name, candidates)
     if close:
         return "did you mean " + " or ".join(f"'{c}'" for c in close) + "?"

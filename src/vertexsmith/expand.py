@@ -8,8 +8,9 @@ use; `+ h.c.` appends the hermitian conjugate of its sum.
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from typing import Callable, Union
 
 import sympy
@@ -30,7 +31,7 @@ class FieldAtom:
     conjugate: bool
     index: str | None
     derivatives: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
     group_indices: tuple[tuple[str, str | None], ...] = ()  # (group, index); None until implied ones are fixed
 
     def group_index(self, group: str) -> str | None:
@@ -43,7 +44,7 @@ class DiracAtom:
 
     kind: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -52,7 +53,7 @@ class TensorAtom:
 
     kind: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -62,7 +63,7 @@ class GroupAtom:
     kind: str
     group: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 Atom = Union[FieldAtom, DiracAtom, TensorAtom, GroupAtom]
@@ -74,7 +75,7 @@ class Monomial:
 
     coefficient: sympy.Expr
     atoms: tuple[Atom, ...]
-    origin: Span = field(compare=False)
+    origin: Span = dataclasses.field(compare=False)
 
     @property
     def fields(self) -> tuple[FieldAtom, ...]:
@@ -157,7 +158,7 @@ class _Expander:
         if not positions:
             name = "D" if op.covariant else "d"
             raise ModelMeaningError(f"{name}[{op.index.split('#')[0]}] acts on a factor without fields", op.span,
-                                    f"write the derivative directly before the field or bracket it differentiates")
+                                    "write the derivative directly before the field or bracket it differentiates")
         out: list[_Partial] = []
         for k in positions:
             atom = p.atoms[k]
@@ -389,12 +390,14 @@ def _implied_group_indices(model: m.Model, atoms: tuple[Atom, ...], expander: "_
             raise ModelMeaningError(f"the implied {group.name} index of this field is not contracted",
                                     atom.span, "close the product with an unconjugated field, or write indices out")
         # implied adjoint indices of field strengths pair up
-        implied = [k for k, atom in enumerate(result) if isinstance(atom, FieldAtom)
-                   and (atom.group_index(group.name) or "").startswith("@adj")]
-        names = sorted({result[k].group_index(group.name) for k in implied})  # type: ignore[union-attr, type-var]
+        implied: set[str] = set()
+        for atom in result:
+            index = atom.group_index(group.name) if isinstance(atom, FieldAtom) else None
+            if index is not None and index.startswith("@adj"):
+                implied.add(index)
         f_names = {a.indices[0] for a in result if isinstance(a, GroupAtom) and a.kind == "f"
                    and a.group == group.name and a.indices[0].startswith("@adj")}
-        names = sorted(set(names) | f_names)
+        names = sorted(implied | f_names)
         if names:
             if len(names) != 2:
                 raise ModelMeaningError(f"implied adjoint indices of {group.name} pair up only between two field "

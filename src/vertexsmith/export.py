@@ -17,7 +17,7 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import IO, TYPE_CHECKING
 
 from .errors import UsageError, VertexsmithError
 
@@ -78,8 +78,8 @@ def _write(text: str, output: str) -> None:
     try:
         from .cli import write_output
     except ImportError:  # pragma: no cover - the command line is part of every installation
-        write_output = None
-    if write_output is not None:
+        pass
+    else:
         write_output(text, output)
         return
     try:
@@ -122,13 +122,13 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
-def _emit(text: str, stream: "object") -> None:
+def _emit(text: str, stream: IO[str]) -> None:
     try:
         from .cli import emit
     except ImportError:  # pragma: no cover
-        stream.write(text)  # type: ignore[attr-defined]
+        stream.write(text)
         return
-    emit(text, stream)  # type: ignore[arg-type]
+    emit(text, stream)
 
 
 def _report(err: VertexsmithError) -> None:

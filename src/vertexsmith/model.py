@@ -7,7 +7,8 @@ number a sympy number, and every index checked.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import dataclasses
+from dataclasses import dataclass
 from fractions import Fraction
 from typing import TYPE_CHECKING, Any, Union
 
@@ -32,7 +33,7 @@ class Parameter:
     definition: sympy.Expr | None
     value: complex | None
     description: str
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
     @property
     def symbol(self) -> sympy.Symbol:
@@ -54,7 +55,7 @@ class Field:
     mass: sympy.Expr
     charges: tuple[tuple[str, Fraction], ...]
     description: str
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
     representations: tuple[tuple[str, str], ...] = ()  # (group, fundamental|antifundamental|adjoint)
 
     def representation(self, group: str) -> str | None:
@@ -91,7 +92,7 @@ class GaugeGroup:
     strength: str
     coupling: sympy.Expr
     fixing: str  # "lorenz" (R_xi, added automatically) or "none"
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
     rank: int = 1  # N of SU(N)
 
     @property
@@ -124,7 +125,7 @@ class LScalar:
     """A field-free factor: numbers, parameters, I, pi and functions of them."""
 
     value: sympy.Expr
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -134,7 +135,7 @@ class LField:
     field: str
     conjugate: bool
     index: str | None
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
     group_indices: tuple[tuple[str, str | None], ...] = ()
 
 
@@ -145,7 +146,7 @@ class LGroup:
     kind: str
     group: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -154,7 +155,7 @@ class LDirac:
 
     kind: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -163,7 +164,7 @@ class LTensor:
 
     kind: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -172,7 +173,7 @@ class LDerivative:
 
     index: str
     covariant: bool
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -181,7 +182,7 @@ class LStrength:
 
     group: str
     indices: tuple[str, str]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
     group_index: str | None = None  # adjoint index of a non-abelian strength (None: implied)
 
 
@@ -189,27 +190,27 @@ class LStrength:
 class LDefinitionUse:
     name: str
     indices: tuple[str, ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
 class LSum:
     terms: tuple[tuple[int, "LNode"], ...]
     has_hc: bool
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
 class LProduct:
     factors: tuple["LNode", ...]
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
 class LPower:
     base: "LNode"
     exponent: int
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -217,7 +218,7 @@ class LDagger:
     """dag(...) of an expression: its hermitian conjugate."""
 
     inner: "LNode"
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 LNode = Union[LScalar, LField, LGroup, LDirac, LTensor, LDerivative, LStrength, LDefinitionUse, LSum,
@@ -229,7 +230,7 @@ class Definition:
     name: str
     indices: tuple[str, ...]
     body: LNode
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -237,7 +238,7 @@ class Term:
     """One line of the Lagrangian."""
 
     node: LNode
-    span: Span = field(compare=False)
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True, eq=False)

@@ -9,12 +9,12 @@ from __future__ import annotations
 
 import itertools
 import string
-from typing import Sequence
+from typing import Callable, Sequence
 
 import numpy as np
 
 from .groups import su_generators, su_structure_constants
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
 
 METRIC = np.diag([1.0, -1.0, -1.0, -1.0]).astype(complex)
@@ -115,6 +115,7 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta:
             dummy_seen[slot.name] = label
             return label
         # a momentum in an index slot: contract with the lowered momentum
+        assert isinstance(slot, Momentum), slot
         label = labels.fresh()
         operands.append(lower(momentum_value(slot, momenta)))
         subscripts.append(label)
@@ -163,7 +164,7 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta:
 
 
 def _chain_operands(chain: Chain, labels: _Labels, operands: list[np.ndarray], subscripts: list[str],
-                    slot_label: "callable", momenta: np.ndarray) -> None:  # type: ignore[valid-type]
+                    slot_label: Callable[[Slot], str], momenta: np.ndarray) -> None:
     start = labels.of(("spinor", chain.bar_leg))
     end = labels.of(("spinor", chain.leg))
     if not chain.matrices:

@@ -69,7 +69,7 @@ def _span(meta: Any) -> Span:
 
 
 def _token_span(token: Token) -> Span:
-    end = (token.end_column or token.column + len(token)) - 1
+    end = (token.end_column or (token.column or 0) + len(token)) - 1
     return Span(token.line or 0, token.column or 0, token.end_line or token.line or 0, max(token.column or 0, end))
 
 
@@ -417,7 +417,8 @@ def _syntax_error(exc: UnexpectedInput, text: str, language: _Language) -> Model
     line = getattr(exc, "line", 0) or 0
     column = getattr(exc, "column", 0) or 0
     if isinstance(exc, UnexpectedCharacters):
-        char = text[exc.pos_in_stream] if 0 <= exc.pos_in_stream < len(text) else "?"
+        position = exc.pos_in_stream
+        char = text[position] if position is not None and 0 <= position < len(text) else "?"
         return ModelSyntaxError(f"unexpected character {char!r}", Span.point(line, column),
                                 language.character_hint(char))
     if isinstance(exc, UnexpectedToken):

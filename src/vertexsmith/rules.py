@@ -7,7 +7,8 @@ numbers in the documented array layout.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+import dataclasses
+from dataclasses import dataclass, replace
 from functools import cached_property
 from typing import TYPE_CHECKING, Mapping, Sequence
 
@@ -141,8 +142,8 @@ class Vertex:
 
     legs: tuple[Leg, ...]
     terms: tuple[VertexTerm, ...]
-    model: "Model" = field(compare=False, repr=False)
-    origins: tuple[int, ...] = field(default=(), compare=False)
+    model: "Model" = dataclasses.field(compare=False, repr=False)
+    origins: tuple[int, ...] = dataclasses.field(default=(), compare=False)
 
     @property
     def labels(self) -> tuple[str, ...]:
@@ -282,7 +283,7 @@ class Propagator:
     a: sympy.Expr
     b: sympy.Expr
     gauge: str
-    model: "Model" = field(compare=False, repr=False)
+    model: "Model" = dataclasses.field(compare=False, repr=False)
     representations: tuple[tuple[str, str, int], ...] = ()
     chiral: tuple[sympy.Expr, sympy.Expr] | None = None  # D = (cL PL + cR PR) pslash for chiral kinetic terms
 
@@ -296,7 +297,7 @@ class Propagator:
 
     @property
     def indices(self) -> tuple[str, ...]:
-        names = {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
+        names: tuple[str, ...] = {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
         for group, rep, _ in self.representations:
             letter = "a" if rep == "adjoint" else "i"
             suffix = f"_{group}" if len(self.representations) > 1 else ""
@@ -371,7 +372,7 @@ def _over_common_denominator(parts: list[tuple[sympy.Expr, sympy.Expr]]) -> symp
 class Rules:
     """All vertices and propagators of a model in one gauge."""
 
-    model: "Model" = field(repr=False)
+    model: "Model" = dataclasses.field(repr=False)
     gauge: str
     vertices: tuple[Vertex, ...]
     propagators: tuple[Propagator, ...]

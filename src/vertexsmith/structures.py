@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from fractions import Fraction
-from typing import Iterable, Union
+from typing import Callable, Iterable, Union, cast
 
 
 @dataclass(frozen=True, order=True)
@@ -225,27 +225,38 @@ class Structure:
         return (tuple(s for t in self.tensors for s in t.slots()) + tuple(s for c in self.chains for s in c.slots())
                 + tuple(s for g in self.group for s in g.slots()))
 
-    def map_slots(self, f: "callable") -> "Structure":  # type: ignore[valid-type]
+    def map_slots(self, f: Callable[[Slot], Slot]) -> "Structure":
         return Structure(tuple(_map_tensor(t, f) for t in self.tensors),
                          tuple(Chain(c.bar_leg, c.leg, tuple(_map_matrix(mat, f) for mat in c.matrices))
                                for c in self.chains),
-                         tuple(type(g)(g.group, tuple(f(x) for x in g.slots_)) for g in self.group))  # type: ignore
+                         tuple(_map_group_tensor(g, f) for g in self.group))
 
     def without_group(self) -> "Structure":
         return Structure(self.tensors, self.chains)
 
 
-def _map_tensor(t: Tensor, f: "callable") -> Tensor:  # type: ignore[valid-type]
+def _map_tensor(t: Tensor, f: Callable[[Slot], Slot]) -> Tensor:
+    # momentum slots are passed through unchecked: derive.replace_slot deliberately puts a
+    # placeholder Dummy there to group terms that differ only in one momentum
     if isinstance(t, Metric):
         return Metric(f(t.a), f(t.b))
     if isinstance(t, Vector):
-        return Vector(f(t.momentum), f(t.index))
+        return Vector(cast(Momentum, f(t.momentum)), f(t.index))
     if isinstance(t, Dot):
-        return Dot(f(t.p), f(t.q))
-    return Epsilon(tuple(f(s) for s in t.slots_))  # type: ignore[arg-type]
+        return Dot(cast(Momentum, f(t.p)), cast(Momentum, f(t.q)))
+    a, b, c, d = t.slots_
+    return Epsilon((f(a), f(b), f(c), f(d)))
 
 
-def _map_matrix(mat: DiracMatrix, f: "callable") -> DiracMatrix:  # type: ignore[valid-type]
+def _map_group_tensor(g: GroupTensor, f: Callable[[Slot], Slot]) -> GroupTensor:
+    if isinstance(g, GroupDelta):
+        a, b = g.slots_
+        return GroupDelta(g.group, (f(a), f(b)))
+    a, b, c = g.slots_
+    return type(g)(g.group, (f(a), f(b), f(c)))
+
+
+def _map_matrix(mat: DiracMatrix, f: Callable[[Slot], Slot]) -> DiracMatrix:
     if isinstance(mat, Gamma):
         return Gamma(f(mat.slot))
     if isinstance(mat, Sigma):
@@ -291,7 +302,8 @@ def _canonical_tensor(t: Tensor) -> tuple[int, Tensor | None]:
         if len(set(keys)) < 4:
             return 0, None
         sign = _permutation_sign(keys)
-        return sign, Epsilon(tuple(sorted(t.slots_, key=slot_key)))  # type: ignore[arg-type]
+        a, b, c, d = sorted(t.slots_, key=slot_key)
+        return sign, Epsilon((a, b, c, d))
     return 1, t
 
 
@@ -360,9 +372,11 @@ def _canonical_group_tensor(t: GroupTensor) -> tuple[int, GroupTensor | None]:
         keys = [slot_key(x) for x in t.slots_]
         if len(set(keys)) < 3:
             return 0, None
-        return _permutation_sign(keys), StructureConstant(t.group, tuple(sorted(t.slots_, key=slot_key)))  # type: ignore
+        a, b, c = sorted(t.slots_, key=slot_key)
+        return _permutation_sign(keys), StructureConstant(t.group, (a, b, c))
     if isinstance(t, GroupDelta):
-        return 1, GroupDelta(t.group, tuple(sorted(t.slots_, key=slot_key)))  # type: ignore[arg-type]
+        i, j = sorted(t.slots_, key=slot_key)
+        return 1, GroupDelta(t.group, (i, j))
     return 1, t
 
 
@@ -400,28 +414,32 @@ def canonical_structure(structure: Structure) -> tuple[int, Structure | None]:
     chains.sort(key=lambda c: (c.bar_leg, c.leg))
     result = Structure(tuple(tensors), tuple(chains), tuple(group))
     # dummy names by order of appearance
-    names: dict[str, Slot] = {}
+    names: dict[tuple[str, str], Slot] = {}
 
     def rename(slot: Slot) -> Slot:
         if isinstance(slot, Dummy):
             if ("L", slot.name) not in names:
-                names[("L", slot.name)] = Dummy(f"r{sum(k[0] == 'L' for k in names) + 1}")  # type: ignore[index]
-            return names[("L", slot.name)]  # type: ignore[index]
+                names[("L", slot.name)] = Dummy(f"r{sum(k[0] == 'L' for k in names) + 1}")
+            return names[("L", slot.name)]
         if isinstance(slot, GroupDummy):
             if ("G", slot.name) not in names:
-                names[("G", slot.name)] = GroupDummy(f"e{sum(k[0] == 'G' for k in names) + 1}")  # type: ignore
-            return names[("G", slot.name)]  # type: ignore[index]
+                names[("G", slot.name)] = GroupDummy(f"e{sum(k[0] == 'G' for k in names) + 1}")
+            return names[("G", slot.name)]
         return slot
 
     for slot in result.slots():
         rename(slot)
     if names:
         result = result.map_slots(rename)
-        again = [(_canonical_group_tensor(g)) for g in result.group]
-        for s_, _ in again:
+        again: list[GroupTensor] = []
+        for g in result.group:
+            s_, cg = _canonical_group_tensor(g)
+            # renaming keeps distinct dummies distinct, so a tensor that survived above survives here
+            assert cg is not None
             sign *= s_
+            again.append(cg)
         result = Structure(tuple(sorted(result.tensors, key=_tensor_key)), result.chains,
-                           tuple(sorted((g for _, g in again), key=_group_key)))  # type: ignore[arg-type]
+                           tuple(sorted(again, key=_group_key)))
     return sign, result
 
 

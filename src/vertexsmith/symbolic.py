@@ -178,6 +178,7 @@ def slot_to_sympy(slot: Slot) -> sympy.Expr:
         return index_symbol(slot.leg)
     if isinstance(slot, Dummy):
         return sympy.Symbol(slot.name)
+    assert isinstance(slot, Momentum), slot  # group indices never sit in a Lorentz slot
     return sympy.Add(*[sympy.Rational(c.numerator, c.denominator) * momentum_symbol(leg) for leg, c in slot.terms])
 
 
@@ -250,11 +251,11 @@ def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
         text = str(s)
         for prefix, tex in (("mu", r"\mu"), ("p", "p")):
             if text.startswith(prefix) and text[len(prefix):].isdigit():
-                names[s] = f"{tex}_{{{text[len(prefix):]}}}"  # type: ignore[index]
+                names[s] = f"{tex}_{{{text[len(prefix):]}}}"
         if text.startswith("xi_"):
-            names[s] = rf"\xi_{{{text[3:]}}}"  # type: ignore[index]
+            names[s] = rf"\xi_{{{text[3:]}}}"
         elif s not in names and len(text) > 1 and text.isalnum() and text.lower() not in _GREEK:
-            names[s] = rf"\mathrm{{{text}}}"  # type: ignore[index]
+            names[s] = rf"\mathrm{{{text}}}"
     return names
 
 

@@ -21,7 +21,7 @@ from __future__ import annotations
 import re
 import textwrap
 from fractions import Fraction
-from typing import Iterable
+from typing import Iterable, Iterator
 
 import sympy
 
@@ -169,8 +169,8 @@ def _expand_momenta(structure: Structure) -> list[tuple[Fraction, Structure]]:
                 counter = iter(range(10_000))
                 single = Momentum.of(leg)
 
-                def f(slot: Slot, _single: Momentum = single, _counter: "Iterable[int]" = counter) -> Slot:
-                    return _single if next(_counter) == position else slot  # type: ignore[call-overload]
+                def f(slot: Slot, _single: Momentum = single, _counter: Iterator[int] = counter) -> Slot:
+                    return _single if next(_counter) == position else slot
 
                 result.append((c * coefficient, s.map_slots(f)))
         out = result
@@ -393,7 +393,11 @@ def render_form(rules: Rules) -> str:
                         if any(group_functions[k] + "(" in s for s in statements + propagators))
 
     def _sorted(items: Iterable[str]) -> str:
-        return ", ".join(sorted(items, key=lambda x: (re.sub(r"\d+$", "", x), int(re.search(r"\d*$", x).group() or 0))))
+        def key(x: str) -> tuple[str, int]:
+            digits = re.search(r"\d*$", x)  # always matches, perhaps the empty string
+            return re.sub(r"\d+$", "", x), (int(digits.group() or 0) if digits else 0)
+
+        return ", ".join(sorted(items, key=key))
 
     header = ["* Feynman rules of the model '" + model.name + "' (" + model.description + "),",
               f"* written by vertexsmith for FORM; gauge: {rules.gauge}.", "*"]

@@ -26,7 +26,7 @@ import sympy
 from sympy.printing.numpy import NumPyPrinter
 
 from ..rules import P2, Propagator, Rules, Vertex
-from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDummy,
                           LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
 from ..symbolic import lorentz_to_sympy
 
@@ -169,6 +169,7 @@ class _Einsum:
             label = self.fresh()
             self._dummies[slot.name] = label
             return label
+        assert isinstance(slot, Momentum), slot  # group indices never sit in a Lorentz slot
         label = self.fresh()
         self.add(f"_lower({_momentum_code(slot)})", label, True)
         return label
@@ -349,11 +350,12 @@ def _fraction_literal(q: Fraction) -> str:
 def _definition_order(rules: Rules) -> list[str]:
     """Parameters with a definition in other parameters, each after those it uses."""
     params = rules.model.parameters
-    pending = {name: p for name, p in params.items() if p.definition is not None and p.definition.free_symbols}
+    pending = {name: {str(s) for s in p.definition.free_symbols} for name, p in params.items()
+               if p.definition is not None and p.definition.free_symbols}  # name -> the names it uses
     done: set[str] = {name for name in params if name not in pending}
     order: list[str] = []
     while pending:
-        ready = [n for n, p in pending.items() if {str(s) for s in p.definition.free_symbols} <= done]  # type: ignore[union-attr]
+        ready = [n for n, uses in pending.items() if uses <= done]
         if not ready:  # a cycle or an unknown name: leave the rest at their default numbers
             break
         for n in ready:
@@ -395,7 +397,8 @@ def _parameters_block(rules: Rules) -> str:
     lines.append("_DEFINITIONS = (")
     for name in derived:
         definition = model.parameters[name].definition
-        lines.append(f"    ({name!r}, lambda P: {_code(definition)}),")  # type: ignore[arg-type]
+        assert definition is not None  # _definition_order lists defined parameters only
+        lines.append(f"    ({name!r}, lambda P: {_code(definition)}),")
     lines.append(")")
     return "\n".join(lines)
 

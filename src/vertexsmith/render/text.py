@@ -25,7 +25,7 @@ from rich.cells import cell_len
 from rich.console import Console
 from rich.table import Table
 from rich.text import Text
-from sympy.printing.precedence import PRECEDENCE, precedence_traditional
+from sympy.printing.precedence import PRECEDENCE
 from sympy.printing.str import StrPrinter
 
 from ..symbolic import Gamma5, ProjL, ProjR
@@ -381,16 +381,16 @@ def _vertex_table(rules: "Rules", width: int) -> Table:
     table.add_column("legs", no_wrap=True)
     table.add_column("factor")
     table.add_column("lines", justify="right")
-    rows = []
+    rows: list[tuple[str, Table, str]] = []  # the cells of the "#", "legs" and "lines" columns
     for n, v in enumerate(rules.vertices, start=1):
-        rows.append((str(n), _legs_grid(v.legs), v, ", ".join(str(line) for line in v.origins)))
+        rows.append((str(n), _legs_grid(v.legs), ", ".join(str(line) for line in v.origins)))
     # room left for the factor: the other columns' widths, one space of padding either side of each of
     # the four columns, and the table's own edges (12 in all, measured)
     console = Console(width=1000, color_system=None)
     used = sum(max([cell_len(str(table.columns[column].header))]
-                   + [console.measure(row[column]).maximum for row in rows]) for column in (0, 1, 3))
+                   + [console.measure(row[k]).maximum for row in rows]) for k, column in enumerate((0, 1, 3)))
     limit = max(16, width - used - 12)
-    for number, legs, v, origins in rows:
+    for (number, legs, origins), v in zip(rows, rules.vertices):
         table.add_row(number, legs, Text(vertex_text(v, limit)), origins)
     return table
 
