@@ -345,3 +345,22 @@ def test_higgs_doublet_quartic_components(build):
     d = np.eye(2)
     expected = -0.2j * (np.einsum("ac,bd->abcd", d, d) + np.einsum("ad,bc->abcd", d, d))
     np.testing.assert_allclose(value, expected, atol=1e-12)
+
+
+def test_closed_loops_of_metrics_are_traces_of_four(build):
+    # g^mu_nu g^nu_mu = 4 and g^mu_nu g^nu_rho g^rho_mu = 4 in four dimensions (common practice, no source):
+    # each term below is then -c/24 x 4 x phi^4, a vertex -4 i c, and the two together -8 i c
+    rules = build("""
+        theory t
+        parameters
+          coupling c = 1
+          mass m = 1
+        fields
+          scalar phi real mass m
+        lagrangian
+          1/2 d[mu] phi d[mu] phi - 1/2 m^2 phi^2
+          - c/24 g[a,b] g[b,a] phi^4
+          - c/24 g[a,b] g[b,r] g[r,a] phi^4
+        """).derive()
+    c = sympy.Symbol("c", real=True)
+    assert sympy.simplify(rules.vertex("phi", "phi", "phi", "phi").factor + 8 * sympy.I * c) == 0
