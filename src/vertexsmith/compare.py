@@ -53,6 +53,7 @@ from .errors import ModelMeaningError, Source, Span, UsageError, VertexsmithErro
 from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita, lower, slash
 from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAND_BYTES was defined here
 from .rules import MU, NU, P, Leg, Propagator, Rules, Vertex
+from .structures import permutation_sign
 from .symbolic import (Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
                        Sigma, Slash, StructureConstant)
 from .syntax import (HandRule, HandRules, HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient,
@@ -108,16 +109,6 @@ class _Value:
     matrix: bool = False
     momentum: bool = False
     fermions: tuple[int, ...] = ()  # legs of chains, sorted; the sign of the written order is in the array
-
-
-def _parity(sequence: Sequence[int]) -> int:
-    sign = 1
-    items = list(sequence)
-    for i in range(len(items)):
-        for j in range(i + 1, len(items)):
-            if items[i] > items[j]:
-                sign = -sign
-    return sign
 
 
 @dataclass(frozen=True)
@@ -469,7 +460,7 @@ def _layout(ctx: _Context, value: _Value, span: Span) -> np.ndarray:
                             span, "write e.g. chain(1, 4, gamma[r] PL) chain(3, 2, gamma[r] PL)")
         b, q = bars[0].position, plain[0].position
         matrix = value.array if value.matrix else np.multiply.outer(value.array, IDENTITY4)
-        value = _Value(_parity([b, q]) * matrix, value.axes + (f"#s{b}", f"#s{q}"), False, False,
+        value = _Value(permutation_sign([b, q]) * matrix, value.axes + (f"#s{b}", f"#s{q}"), False, False,
                        tuple(sorted((b, q))))
     elif not fermion_legs and value.fermions:  # pragma: no cover - chain() checks its legs
         raise ctx.error("this vertex has no fermion legs", span)
@@ -844,7 +835,7 @@ class _Checker:
         bars = [leg.position for leg in fermions if leg.conjugate]
         plain = [leg.position for leg in fermions if not leg.conjugate]
         if len(bars) == 1 and len(plain) == 1:
-            return _parity([bars[0], plain[0]])
+            return permutation_sign([bars[0], plain[0]])
         return 1
 
     def propagator(self, rule: HandRule, gauge_rules: Rules) -> Comparison:

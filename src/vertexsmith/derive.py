@@ -24,7 +24,8 @@ from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
-                         Vector, canonical_structure, momentum_slots, replace_slot, structure_sort_key)
+                         Vector, canonical_structure, momentum_slots, permutation_sign, replace_slot,
+                         structure_sort_key)
 
 GAUGES = ("xi", "feynman", "unitary")
 MAX_ASSIGNMENTS = 40_320  # 8!: beyond this one monomial's vertex takes more than seconds
@@ -128,12 +129,7 @@ def _is_decorated(atom: FieldAtom) -> bool:
 def _grassmann_sign(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> int:
     order = [mapping[k] for k, a in enumerate(mono.atoms)
              if isinstance(a, FieldAtom) and model.fields[a.field].is_grassmann]
-    sign = 1
-    for i in range(len(order)):
-        for j in range(i + 1, len(order)):
-            if order[i] > order[j]:
-                sign = -sign
-    return sign
+    return permutation_sign(order)
 
 
 class _UnionFind:

@@ -75,17 +75,10 @@ def export_model(model: "str | Path | Model", to: str = "python", output: str | 
 
 
 def _write(text: str, output: str) -> None:
-    try:
-        from .cli import write_output
-    except ImportError:  # pragma: no cover - the command line is part of every installation
-        pass
-    else:
-        write_output(text, output)
-        return
-    try:
-        Path(output).write_text(text, encoding="utf-8")
-    except OSError as exc:
-        raise UsageError(f"cannot write '{output}' ({exc.strerror or exc})") from None
+    """Write atomically, as every command does (nothing is left behind when writing fails)."""
+    from .cli import write_output
+
+    write_output(text, output)
 
 
 # ------------------------------------------------------------------ command line

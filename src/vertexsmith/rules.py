@@ -17,7 +17,7 @@ import sympy
 
 from .errors import UsageError, did_you_mean
 from .numeric import GAMMA, IDENTITY4, METRIC, PROJ_L, PROJ_R, evaluate_structure, lower, minkowski_dot, slash
-from .structures import Structure, relabel_legs, structure_sort_key
+from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
@@ -221,7 +221,7 @@ class Vertex:
         new_position = {old: k + 1 for k, old in enumerate(order)}
         legs = tuple(replace(self.legs[old - 1], position=new_position[old]) for old in order)
         grassmann_old = [old for old in order if self.legs[old - 1].grassmann]
-        sign = _parity(grassmann_old)
+        sign = permutation_sign(grassmann_old)
         terms_: list[VertexTerm] = []
         for t in self.terms:
             relabel_sign, structure = relabel_legs(t.structure, new_position)
@@ -229,16 +229,6 @@ class Vertex:
         terms = tuple(terms_)
         terms = tuple(sorted(terms, key=lambda t: structure_sort_key(t.structure)))
         return Vertex(legs, terms, self.model, self.origins)
-
-
-def _parity(sequence: Sequence[int]) -> int:
-    sign = 1
-    items = list(sequence)
-    for i in range(len(items)):
-        for j in range(i + 1, len(items)):
-            if items[i] > items[j]:
-                sign = -sign
-    return sign
 
 
 def _part_latex(part: CouplingPart) -> str:

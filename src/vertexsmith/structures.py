@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from fractions import Fraction
-from typing import Callable, Iterable, Union, cast
+from typing import Any, Callable, Iterable, Sequence, Union, cast
 
 
 @dataclass(frozen=True, order=True)
@@ -266,8 +266,8 @@ def _map_matrix(mat: DiracMatrix, f: Callable[[Slot], Slot]) -> DiracMatrix:
 
 # ------------------------------------------------------------------ canonical form
 
-def _permutation_sign(keys: list) -> int:
-    """Sign of the permutation that sorts `keys` (no repeats)."""
+def permutation_sign(keys: Sequence[Any]) -> int:
+    """Sign of the permutation that sorts `keys` (no repeats): +1 even, -1 odd."""
     sign = 1
     order = sorted(range(len(keys)), key=lambda i: keys[i])
     seen = [False] * len(order)
@@ -301,7 +301,7 @@ def _canonical_tensor(t: Tensor) -> tuple[int, Tensor | None]:
         keys = [slot_key(s) for s in t.slots_]
         if len(set(keys)) < 4:
             return 0, None
-        sign = _permutation_sign(keys)
+        sign = permutation_sign(keys)
         a, b, c, d = sorted(t.slots_, key=slot_key)
         return sign, Epsilon((a, b, c, d))
     return 1, t
@@ -373,7 +373,7 @@ def _canonical_group_tensor(t: GroupTensor) -> tuple[int, GroupTensor | None]:
         if len(set(keys)) < 3:
             return 0, None
         a, b, c = sorted(t.slots_, key=slot_key)
-        return _permutation_sign(keys), StructureConstant(t.group, (a, b, c))
+        return permutation_sign(keys), StructureConstant(t.group, (a, b, c))
     if isinstance(t, GroupDelta):
         i, j = sorted(t.slots_, key=slot_key)
         return 1, GroupDelta(t.group, (i, j))
@@ -501,7 +501,7 @@ def legs_in(slots: Iterable[Slot]) -> set[int]:
     return out
 
 
-__all__ = ["LegIndex", "Momentum", "Dummy", "LegGroupIndex", "GroupDummy", "StructureConstant", "Generator",
+__all__ = ["permutation_sign", "LegIndex", "Momentum", "Dummy", "LegGroupIndex", "GroupDummy", "StructureConstant", "Generator",
            "GroupDelta", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
            "Sigma", "Chiral", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
            "momentum_slots", "replace_slot", "relabel_legs", "replace"]
