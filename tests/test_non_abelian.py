@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import sympy
+from conftest import bar, u_spinor, v_spinor
 
 import vertexsmith as vs
 from vertexsmith.groups import su_generators, su_structure_constants
@@ -185,24 +186,6 @@ def test_covariant_sign_switch_flips_exactly_the_odd_powers_of_g(labels: tuple[s
 
 # ------------------------------------------------------------------ gauge invariance of q qbar -> g g
 
-def _spinor_u(p: np.ndarray, m: float, spin: int) -> np.ndarray:
-    chi = np.eye(2)[spin]
-    e = p[0]
-    sigma_p = sum(s * c for s, c in zip(_PAULI, p[1:]))
-    return np.concatenate([np.sqrt(e + m) * chi, sigma_p @ chi / np.sqrt(e + m)])
-
-
-def _spinor_v(p: np.ndarray, m: float, spin: int) -> np.ndarray:
-    eta = np.eye(2)[spin]
-    e = p[0]
-    sigma_p = sum(s * c for s, c in zip(_PAULI, p[1:]))
-    return np.concatenate([sigma_p @ eta / np.sqrt(e + m), np.sqrt(e + m) * eta])
-
-
-_PAULI = [np.array([[0, 1], [1, 0]], complex), np.array([[0, -1j], [1j, 0]], complex),
-          np.array([[1, 0], [0, -1]], complex)]
-
-
 def _kinematics(m: float) -> tuple[np.ndarray, ...]:
     energy = 3.0
     pz = np.sqrt(energy**2 - m**2)
@@ -226,8 +209,8 @@ def _qqbar_to_gg(rules: vs.Rules, eps1: np.ndarray, eps2: np.ndarray, with_three
     """iM for q(p1, colour i) qbar(p2, colour j) -> g(k1, a) g(k2, b), every colour, three diagrams."""
     m = 0.7
     p1, p2, k1, k2 = _kinematics(m)
-    u = _spinor_u(p1, m, 0)
-    vbar = _spinor_v(p2, m, 1).conj() @ GAMMA[0]
+    u = u_spinor(p1, m, 0)
+    vbar = bar(v_spinor(p2, m, 1))
     # vertex axes: bar(q) (spinor, colour), q (spinor, colour), G (mu, a); momenta do not enter
     vertex = rules.vertex("bar(q)", "q", "G").evaluate(np.zeros((3, 4)))
     e1, e2 = METRIC @ eps1.conj(), METRIC @ eps2.conj()  # eps*_mu, lowered for the upper vertex index
