@@ -7,10 +7,11 @@ names become our own sympy symbols; no user text is ever evaluated.
 
 from __future__ import annotations
 
+import cmath
 from collections import Counter
 from fractions import Fraction
 from pathlib import Path
-from typing import Iterable
+from typing import Any, Iterable
 
 import sympy
 
@@ -18,7 +19,7 @@ from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
 from .groups import representation_name
-from .parse import parse_text
+from .parse import MAX_NUMBER_DIGITS, parse_text
 
 # built-in objects of the Lagrangian and the number of indices each takes
 _DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
@@ -48,6 +49,9 @@ def load_model(path: str | Path | None = None, *, text: str | None = None, name:
             raise UsageError(f"{file}: cannot read the model file ({exc.strerror or exc})",
                              hint="check the path") from None
         name = name or str(path)
+    if not isinstance(text, str):
+        raise UsageError("load_model(text=...) takes a str", hint="decode bytes first: data.decode('utf-8')")
+    text = text.removeprefix("\ufeff")  # a byte-order mark some editors write
     source = Source(name or "<model>", text)
     syntax = parse_text(text, source.name)
     try:
@@ -82,6 +86,12 @@ class _Builder:
                                     "give each field, parameter, group and definition its own name")
         if name in _DIRAC or name in _CONSTANTS or name in ("bar", "dag", "conj"):
             raise ModelMeaningError(f"'{name}' is a built-in name of the model language", span,
+                                    f"choose another name, e.g. '{name}_1'")
+        if name.startswith("xi_") and what != "ghost field":
+            raise ModelMeaningError(f"'{name}' is reserved for the gauge parameter of a gauge boson", span,
+                                    f"choose another name, e.g. '{name[3:]}_xi'")
+        if name in _DERIVATIVES and what in ("definition", "field strength"):
+            raise ModelMeaningError(f"'{name}[...]' is the derivative, so a {what} cannot be called '{name}'", span,
                                     f"choose another name, e.g. '{name}_1'")
         self.declared[name] = (what, span)
 
@@ -132,6 +142,10 @@ class _Builder:
                     resolve(used)
             definition = self._scalar(decl.value) if decl.value is not None else None
             resolving.pop()
+            if definition is not None and definition.free_symbols == set() and not definition.is_finite:
+                raise ModelMeaningError(f"the value of '{name}' is not a finite number ({definition})",
+                                        decl.value.span if decl.value is not None else decl.span,
+                                        "write a finite number")
             if decl.reality == "real" and definition is not None and _certainly_complex(definition):
                 raise ModelMeaningError(f"parameter '{name}' is declared real but its value is complex",
                                         decl.value.span if decl.value is not None else decl.span,
@@ -158,6 +172,9 @@ class _Builder:
                                         "remove 'real' (a self-conjugate fermion is a majorana field)")
             if f.kind == "dirac" and f.reality == "complex":
                 pass
+            if f.name in _DERIVATIVES and f.kind == "vector":
+                raise ModelMeaningError(f"'{f.name}[mu]' is the derivative, so a vector cannot be called '{f.name}'",
+                                        f.span, f"choose another name, e.g. '{f.name}_1'")
             is_complex = f.kind == "dirac" or f.reality == "complex"
             mass: sympy.Expr = sympy.Integer(0)
             if isinstance(f.mass, str):
@@ -303,7 +320,12 @@ class _Builder:
                 raise ModelMeaningError("division by zero", node.denominator.span, "")
             return self._scalar(node.numerator) / denominator
         if isinstance(node, sx.Power):
-            return self._scalar(node.base) ** self._scalar(node.exponent)
+            result = self._scalar(node.base) ** self._scalar(node.exponent)
+            if result.is_number and (not result.is_finite or (result.is_Rational and max(
+                    abs(result.p), result.q) > 10 ** MAX_NUMBER_DIGITS)):  # type: ignore[attr-defined]
+                raise ModelMeaningError("this power is too large to use", node.span,
+                                        "write a parameter in sensible units instead")
+            return result
         if isinstance(node, sx.HermitianConjugate):
             raise ModelMeaningError("'h.c.' belongs in a Lagrangian term", node.span, "remove it here")
         raise ModelMeaningError("a number is needed here", _span_of(node))
@@ -426,6 +448,14 @@ class _Builder:
     def _symbol(self, node: sx.Symbol) -> m.LNode:
         name = node.name
         idx = tuple(i.name for i in node.indices)
+        if _ALIASES.get(name, name) in _DERIVATIVES and idx:
+            # d[...] and D[...] are always derivatives; a field called d is written without indices
+            name = _ALIASES.get(name, name)
+            self._check_index_count(node, 1, f"the derivative '{node.name}'", f"{node.name}[mu]")
+            if _DERIVATIVES[name] and not self.groups:
+                raise ModelMeaningError("D[mu] needs a gauge group", node.span,
+                                        "declare a group in the gauge section, or write d[mu]")
+            return m.LDerivative(idx[0], _DERIVATIVES[name], node.span)
         if name in self.fields:
             f = self.fields[name]
             if f.kind == "ghost":
@@ -490,10 +520,6 @@ class _Builder:
             return m.LTensor(builtin, idx, node.span)
         if builtin in _DERIVATIVES:
             self._check_index_count(node, 1, f"the derivative '{name}'", f"{name}[mu]")
-            if _DERIVATIVES[builtin] and not self.groups:
-                raise ModelMeaningError("D[mu] needs a gauge group", node.span,
-                                        "declare a group in the gauge section, or write d[mu]")
-            return m.LDerivative(idx[0], _DERIVATIVES[builtin], node.span)
         if name in self.parameters:
             raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
                                     f"write {name} without brackets")
@@ -571,7 +597,7 @@ class _Builder:
     def _free_indices(self, node: sx.Expr) -> Counter[str]:
         """Free Lorentz indices of a node; raises on an index used more than twice."""
         if isinstance(node, sx.Symbol):
-            if node.name in self.parameters:
+            if node.name in self.parameters and not node.indices:
                 return Counter()
             names = [i.name for i in node.indices]
             counts = Counter(names)
@@ -665,7 +691,7 @@ def resolve_values_from(parameters: dict[str, m.Parameter],
         if name not in parameters:
             raise UsageError(f"unknown parameter '{name}' in values",
                              hint=did_you_mean(name, parameters, "use the model's parameter names"))
-        values[parameters[name].symbol] = complex(value)
+        values[parameters[name].symbol] = _number_value(name, value)
     changed = True
     while changed:
         changed = False
@@ -674,10 +700,28 @@ def resolve_values_from(parameters: dict[str, m.Parameter],
                 continue
             if p.definition.free_symbols <= set(values):
                 own = {s: values[s] for s in p.definition.free_symbols}
-                number = complex((p.definition.subs(own) if own else p.definition).evalf())
+                result = (p.definition.subs(own) if own else p.definition).evalf()
+                try:
+                    number = complex(result)
+                except (TypeError, OverflowError):
+                    number = complex("nan")
+                if not cmath.isfinite(number):
+                    raise ModelMeaningError(f"the value of '{p.name}' is not a finite number ({result})", p.span,
+                                            "check the value and the parameters it is defined from")
                 values[p.symbol] = number
                 changed = True
     return values
+
+
+def _number_value(name: str, value: Any) -> complex:
+    try:
+        number = complex(value)
+    except (TypeError, ValueError):
+        raise UsageError(f"the value given for '{name}' is not a number: {value!r}",
+                         hint=f"pass values={{'{name}': 0.3}}") from None
+    if not cmath.isfinite(number):
+        raise UsageError(f"the value given for '{name}' is not a finite number: {value!r}")
+    return number
 
 
 def resolve_values(model: m.Model, overrides: dict[str, complex]) -> dict[sympy.Symbol, complex]:
@@ -686,5 +730,5 @@ def resolve_values(model: m.Model, overrides: dict[str, complex]) -> dict[sympy.
     values = resolve_values_from(model.parameters, {k: v for k, v in overrides.items() if k not in gauge_parameters})
     for name, value in overrides.items():
         if name in gauge_parameters:
-            values[gauge_parameters[name]] = complex(value)
+            values[gauge_parameters[name]] = _number_value(name, value)
     return values

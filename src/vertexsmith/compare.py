@@ -94,7 +94,7 @@ def read_hand_rules(path: str | Path) -> HandRules:
     except OSError as exc:
         raise UsageError(f"{file}: cannot read the hand-rules file ({exc.strerror or exc})",
                          hint="check the path") from None
-    return parse_hand_rules(text, str(path))
+    return parse_hand_rules(text.removeprefix("\ufeff"), str(path))
 
 
 # ------------------------------------------------------------------ numbers from hand factors
@@ -267,7 +267,15 @@ class _Numeric:
     # ---- nodes
     def evaluate(self, node: HNode) -> _Value:
         method: Callable[[Any], _Value] = getattr(self, "_" + type(node).__name__)
-        return method(node)
+        try:
+            with np.errstate(all="raise"):
+                value = method(node)
+        except (OverflowError, ZeroDivisionError, FloatingPointError):
+            value = None
+        if value is None or not np.all(np.isfinite(value.array)):
+            raise self.ctx.error("this factor is not a finite number", node.span,
+                                 "look for a division by zero or a number too large")
+        return value
 
     def _HNumber(self, node: HNumber) -> _Value:
         return self.scalar(float(node.value))

@@ -412,7 +412,13 @@ def _gauge_fixing(model: m.Model, group: m.GaugeGroup, gauge: str) -> list[Monom
     return [Monomial(-1 / (2 * xi), atoms, group.span)]
 
 
-def ghost_monomials(model: m.Model) -> list[Monomial]:
+def _has_ghosts(model: m.Model, group: m.GaugeGroup, gauge: str) -> bool:
+    """Ghosts belong to a gauge-fixed non-abelian group; unitary gauge drops the fixing of massive bosons."""
+    massive = model.fields[group.boson].mass != 0
+    return not group.abelian and group.fixing == "lorenz" and not (gauge == "unitary" and massive)
+
+
+def ghost_monomials(model: m.Model, gauge: str = "xi") -> list[Monomial]:
     """Faddeev-Popov ghost terms of every non-abelian group with Lorenz-type gauge fixing.
 
     L = bar(c)^a (-d^mu D_mu^{ac}) c^c with the adjoint D_mu^{ac} = d_mu delta^{ac} + s g f^{abc} A^b_mu
@@ -420,7 +426,7 @@ def ghost_monomials(model: m.Model) -> list[Monomial]:
     """
     out: list[Monomial] = []
     for group in model.groups.values():
-        if group.abelian or group.fixing != "lorenz":
+        if not _has_ghosts(model, group, gauge):
             continue
         gh, name = group.ghost, group.name
         kinetic = (FieldAtom(gh, True, None, ("m",), group.span, ((name, "a"),)),
@@ -559,7 +565,7 @@ def derive_rules(model: m.Model, gauge: str = "xi") -> Rules:
     """Every vertex (three or more legs) and every propagator of a model."""
     if gauge not in GAUGES:
         raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
-    monomials = list(expand_model(model)) + ghost_monomials(model)
+    monomials = list(expand_model(model)) + ghost_monomials(model, gauge)
     for mono in monomials:
         check_chains(model, mono)
     groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)
@@ -585,8 +591,11 @@ def derive_rules(model: m.Model, gauge: str = "xi") -> Rules:
             quadratic[f1].extend(monos)
     for group in model.groups.values():
         quadratic[group.boson].extend(_gauge_fixing(model, group, gauge))
+    without_ghosts = {g.ghost for g in model.groups.values() if not _has_ghosts(model, g, gauge)}
     propagators = []
     for f in model.fields.values():
+        if f.kind == "ghost" and f.name in without_ghosts:
+            continue
         propagators.append(propagator_for(model, f, quadratic.get(f.name, []), gauge))
     vertices.sort(key=lambda v: (len(v.legs), v.labels))
     return Rules(model, gauge, tuple(vertices), tuple(propagators))

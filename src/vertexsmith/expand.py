@@ -380,6 +380,12 @@ def _implied_group_indices(model: m.Model, atoms: tuple[Atom, ...], expander: "_
                 result[k] = replace(atom, group_indices=_set_group_index(atom, group.name, current))
             else:
                 if open_at is None:
+                    if rep == "antifundamental":
+                        raise ModelMeaningError(f"the implied {group.name} index of the antifundamental "
+                                                f"'{atom.field}' cannot be read here: a conjugated antifundamental "
+                                                "closes a row ... column product instead of opening it", atom.span,
+                                                f"write its indices out, e.g. bar({atom.field}[i]) ... "
+                                                f"{atom.field}[i]")
                     raise ModelMeaningError(f"'{atom.field}' has no conjugated {group.name} partner before it",
                                             atom.span, "write the conjugated field first, as in bar(q) q, "
                                             "or write the group indices out")

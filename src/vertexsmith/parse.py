@@ -73,7 +73,25 @@ def _token_span(token: Token) -> Span:
     return Span(token.line or 0, token.column or 0, token.end_line or token.line or 0, max(token.column or 0, end))
 
 
+MAX_NUMBER_DIGITS = 60
+MAX_EXPONENT = 300
+
+
+def _checked(token: Token) -> str:
+    """A number token's text, refused when it is too long or overflows a float."""
+    text = str(token)
+    mantissa, _, exponent = text.lower().partition("e")
+    if len(mantissa) > MAX_NUMBER_DIGITS or (exponent and abs(int(exponent)) > MAX_EXPONENT):
+        raise ModelSyntaxError(f"the number '{text[:20]}{'...' if len(text) > 20 else ''}' is too large to use",
+                               _token_span(token),
+                               f"numbers have at most {MAX_NUMBER_DIGITS} digits and exponents up to "
+                               f"e{MAX_EXPONENT}; use a parameter in sensible units")
+    return text
+
+
 def _ratio(tokens: list[Token], meta: Any) -> Fraction:
+    tokens = [Token(t.type, _checked(t), t.start_pos, t.line, t.column, t.end_line, t.end_column, t.end_pos)
+              for t in tokens]
     value = Fraction(str(tokens[0]))
     if len(tokens) == 2:
         if Fraction(str(tokens[1])) == 0:
@@ -134,7 +152,7 @@ class _ToSyntax(_Operators):
 
     # --- expressions
     def number(self, meta: Any, children: list[Any]) -> sx.Number:
-        return sx.Number(str(children[0]), _span(meta))
+        return sx.Number(_checked(children[0]), _span(meta))
 
     def symbol(self, meta: Any, children: list[Any]) -> sx.Symbol:
         indices = children[1] if len(children) > 1 else ()
@@ -153,10 +171,10 @@ class _ToSyntax(_Operators):
         return sx.HermitianConjugate(_span(meta))
 
     def exp_number(self, meta: Any, children: list[Any]) -> sx.Number:
-        return sx.Number(str(children[0]), _span(meta))
+        return sx.Number(_checked(children[0]), _span(meta))
 
     def exp_negative(self, meta: Any, children: list[Any]) -> sx.Number:
-        return sx.Number("-" + str(children[0]), _span(meta))
+        return sx.Number("-" + _checked(children[0]), _span(meta))
 
     def exp_group(self, meta: Any, children: list[Any]) -> Any:
         return children[0]
@@ -185,7 +203,7 @@ class _ToSyntax(_Operators):
         return (str(children[0]), _span(meta))
 
     def mass_number(self, meta: Any, children: list[Token]) -> tuple[Fraction, Span]:
-        return (Fraction(str(children[0])), _span(meta))
+        return (Fraction(_checked(children[0])), _span(meta))
 
     def mass_attr(self, meta: Any, children: list[Any]) -> tuple[str, Any, Span]:
         return ("mass", children[-1], _span(meta))
@@ -297,10 +315,10 @@ class _ToHandRules(_Operators):
 
     # --- factors
     def number(self, meta: Any, c: list[Any]) -> sx.HNumber:
-        return sx.HNumber(Fraction(str(c[0])), _token_span(c[0]))
+        return sx.HNumber(Fraction(_checked(c[0])), _token_span(c[0]))
 
     def negative_number(self, meta: Any, c: list[Any]) -> sx.HNumber:
-        return sx.HNumber(-Fraction(str(c[0])), _token_span(c[0]))
+        return sx.HNumber(-Fraction(_checked(c[0])), _token_span(c[0]))
 
     def index_list(self, meta: Any, c: list[Any]) -> tuple[tuple[str, Span], ...]:
         return tuple((str(t), _token_span(t)) for t in c)

@@ -377,6 +377,8 @@ class Rules:
 
     def vertex(self, *labels: str) -> Vertex:
         """The vertex with these legs (in any order), returned with its legs in the order asked."""
+        if not labels or not all(isinstance(label, str) for label in labels):
+            raise UsageError("vertex() takes the leg labels as strings", hint='e.g. rules.vertex("bar(psi)", "psi", "A")')
         wanted = sorted(labels)
         for v in self.vertices:
             if sorted(v.labels) == wanted:
@@ -393,12 +395,18 @@ class Rules:
 
     def propagator(self, label: str) -> Propagator:
         """The propagator of a field (its name or its conjugate's label)."""
+        if not isinstance(label, str):
+            raise UsageError("propagator() takes a field label as a string", hint='e.g. rules.propagator("psi")')
         name = label
         for prefix in ("bar(", "dag("):
             if label.startswith(prefix) and label.endswith(")"):
                 name = label[len(prefix):-1]
         for p in self.propagators:
             if p.field == name:
+                field = self.model.fields[name]
+                if name != label and not field.is_complex:
+                    raise UsageError(f"'{name}' is its own conjugate: '{label}' names no leg",
+                                     hint=f'write rules.propagator("{name}")')
                 return p
         raise UsageError(f"no propagator for '{label}'",
                          hint=did_you_mean(name, [p.field for p in self.propagators], ""))

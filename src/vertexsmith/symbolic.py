@@ -254,9 +254,40 @@ def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
                 names[s] = f"{tex}_{{{text[len(prefix):]}}}"
         if text.startswith("xi_"):
             names[s] = rf"\xi_{{{text[3:]}}}"
+        elif not text.isascii():
+            names[s] = _ascii_latex(text)
         elif s not in names and len(text) > 1 and text.isalnum() and text.lower() not in _GREEK:
             names[s] = rf"\mathrm{{{text}}}"
     return names
+
+
+def _ascii_latex(text: str) -> str:
+    """A name written with unicode letters (phi written as the Greek letter) in plain-LaTeX commands."""
+    import unicodedata
+
+    out = []
+    for char in text:
+        if char.isascii():
+            out.append(char if char != "_" else r"\_")
+            continue
+        name = unicodedata.name(char, "")
+        for case, command in (("GREEK SMALL LETTER ", str.lower), ("GREEK CAPITAL LETTER ", str.capitalize)):
+            if name.startswith(case):
+                letter = command(name[len(case):].split()[0])
+                letter = {"lamda": "lambda", "Lamda": "Lambda"}.get(letter, letter)
+                if case.startswith("GREEK CAPITAL") and letter not in _UPPER_GREEK_COMMANDS:
+                    out.append(rf"\mathrm{{{_LATIN_LOOKALIKE.get(letter, '?')}}}")
+                else:
+                    out.append(f"\\{letter} ")
+                break
+        else:
+            out.append(r"\mathrm{?}")
+    return "{" + "".join(out).strip() + "}"
+
+
+_LATIN_LOOKALIKE = {"Alpha": "A", "Beta": "B", "Epsilon": "E", "Zeta": "Z", "Eta": "H", "Iota": "I", "Kappa": "K",
+                    "Mu": "M", "Nu": "N", "Omicron": "O", "Rho": "P", "Tau": "T", "Chi": "X"}
+_UPPER_GREEK_COMMANDS = {"Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi", "Omega"}
 
 
 _GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu",

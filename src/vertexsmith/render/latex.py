@@ -5,7 +5,7 @@ amsmath). Slashed momenta are written `\not{p}`, the form `symbolic.to_latex` pr
 snippet is two `align*` environments (vertices, propagators) preceded by comment lines stating
 the conventions, for pasting into a document that loads amsmath.
 
-Symbols go through `sympy.latex` (field names) and `symbolic.to_latex` (factors); plain text
+Symbols go through `symbolic.to_latex` (names and factors alike); plain text
 (names, descriptions) is escaped, so a model can never inject LaTeX commands.
 
     >>> import vertexsmith
@@ -80,8 +80,8 @@ def _tex(latex: str) -> str:
 
 
 def _name(name: str) -> str:
-    """A field or parameter name in math mode, the way sympy spells symbols (phi -> \\phi, nu_e -> \\nu_{e})."""
-    return sympy.latex(sympy.Symbol(name))
+    """A field or parameter name in math mode, as the factors spell it (phi -> \\phi, nu_e -> \\nu_{e})."""
+    return to_latex(sympy.Symbol(name))
 
 
 _LETTER_INDEX = re.compile(r"^([a-z])([0-9]+)(?:_([A-Za-z0-9_]+))?$")

@@ -391,6 +391,10 @@ def _parameters_block(rules: Rules) -> str:
     for xi, boson in _gauge_symbols(rules):
         lines.append(f"    {xi!r}: 1.0,  # gauge parameter of {boson} (R_xi); 1 is Feynman gauge")
     lines.append("}")
+    names = list(model.parameters) + [xi for xi, _ in _gauge_symbols(rules)]
+    lines.append("")
+    lines.append("# every name params may set, those without a value in the model included")
+    lines.append("PARAMETER_NAMES = (" + "".join(f"{name!r}, " for name in names).rstrip() + ")")
     derived = _definition_order(rules)
     lines.append("")
     lines.append("# parameters defined through others, in an order that respects their definitions")
@@ -508,9 +512,9 @@ class _Parameters(dict):
 def _parameters(params):
     """The model's numbers, overridden by `params`; parameters defined through others follow them."""
     given = dict(params or {})
-    unknown = sorted(set(given) - set(PARAMETERS) - {name for name, _ in _DEFINITIONS})
+    unknown = sorted(set(given) - set(PARAMETER_NAMES))
     if unknown:
-        raise KeyError(f"unknown parameter(s) {', '.join(unknown)}; the parameters are {', '.join(PARAMETERS)}")
+        raise KeyError(f"unknown parameter(s) {', '.join(unknown)}; the parameters are {', '.join(PARAMETER_NAMES)}")
     P = _Parameters({name: complex(value) for name, value in PARAMETERS.items()})
     P.update({name: complex(value) for name, value in given.items()})
     for name, definition in _DEFINITIONS:
