@@ -140,10 +140,7 @@ def command_rules(args: argparse.Namespace) -> int:
     if args.snippet and args.format != "latex":
         raise UsageError("--snippet applies only to --format latex")
     model = load(args.model)
-    try:
-        rules = model.derive(gauge=args.gauge)
-    except VertexsmithError as err:
-        raise err.with_source(model.source) from None
+    rules = model.derive(gauge=args.gauge)  # derive() attaches the model's source to its errors
     options: dict[str, object] = {}
     if args.format == "latex":
         options["snippet"] = args.snippet

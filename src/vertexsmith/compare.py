@@ -49,7 +49,7 @@ from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 import numpy as np
 import sympy
 
-from .errors import ModelMeaningError, Source, Span, UsageError, VertexsmithError, did_you_mean
+from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
 from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita, lower, slash
 from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAND_BYTES was defined here
 from .rules import MU, NU, P, Leg, Propagator, Rules, Vertex
@@ -967,10 +967,7 @@ def compare_files(model: "str | Path | Model", hand_path: str | Path, gauge: str
     hand = read_hand_rules(hand_path)
     if gauge is not None:
         hand = replace(hand, gauge=gauge)
-    try:
-        rules = loaded.derive(gauge=hand.gauge or "feynman")
-    except VertexsmithError as err:
-        raise err.with_source(loaded.source) from None
+    rules = loaded.derive(gauge=hand.gauge or "feynman")  # derive() attaches the model's source to its errors
     return compare_rules(rules, hand, points, seed)
 
 
@@ -1036,20 +1033,13 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
 
 
 def run(args: argparse.Namespace) -> int:
-    """Run `vertexsmith compare`: 0 all equal, 1 differences or file errors, 2 unusable command or file."""
-    from .export import _emit, _report
+    """Run `vertexsmith compare`: 0 all equal, 1 differences; errors go up to the command line (exit 1 or 2)."""
+    from .cli import emit
 
-    try:
-        if args.points < 1:
-            raise UsageError("--points must be at least 1")
-        report = compare_files(args.model, args.hand, args.gauge, args.points, args.seed)
-    except UsageError as err:
-        _report(err)
-        return 2
-    except VertexsmithError as err:
-        _report(err)
-        return 1
-    _emit(format_report(report), sys.stdout)
+    if args.points < 1:
+        raise UsageError("--points must be at least 1")
+    report = compare_files(args.model, args.hand, args.gauge, args.points, args.seed)
+    emit(format_report(report), sys.stdout)
     return report.exit_code(args.require_all)
 
 

@@ -17,9 +17,9 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
-from typing import IO, TYPE_CHECKING
+from typing import TYPE_CHECKING
 
-from .errors import UsageError, VertexsmithError
+from .errors import UsageError
 
 if TYPE_CHECKING:
     from .model import Model
@@ -64,10 +64,7 @@ def export_model(model: "str | Path | Model", to: str = "python", output: str | 
     from .model import Model
 
     loaded = model if isinstance(model, Model) else load_model_argument(model)
-    try:
-        rules = loaded.derive(gauge=gauge)
-    except VertexsmithError as err:
-        raise err.with_source(loaded.source) from None
+    rules = loaded.derive(gauge=gauge)  # derive() attaches the model's source to its errors
     text = export_rules(rules, to)
     if output is not None:
         _write(text, str(output))
@@ -99,39 +96,15 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
 
 
 def run(args: argparse.Namespace) -> int:
-    """Run `vertexsmith export`; 0 done, 1 the model has errors, 2 unusable command or file."""
-    try:
-        text = export_model(args.model, args.to, None, args.gauge)
-        if args.output in (None, "-"):
-            _emit(text, sys.stdout)
-        else:
-            _write(text, args.output)
-    except UsageError as err:
-        _report(err)
-        return 2
-    except VertexsmithError as err:
-        _report(err)
-        return 1
+    """Run `vertexsmith export`; errors go up to the command line, which reports them (exit 1 or 2)."""
+    from .cli import emit
+
+    text = export_model(args.model, args.to, None, args.gauge)
+    if args.output in (None, "-"):
+        emit(text, sys.stdout)
+    else:
+        _write(text, args.output)
     return 0
-
-
-def _emit(text: str, stream: IO[str]) -> None:
-    try:
-        from .cli import emit
-    except ImportError:  # pragma: no cover
-        stream.write(text)
-        return
-    emit(text, stream)
-
-
-def _report(err: VertexsmithError) -> None:
-    """Print an error the way the rest of the command line does (file:line:col, line, caret, hint)."""
-    try:
-        from .cli import report
-    except ImportError:  # pragma: no cover
-        sys.stderr.write(str(err).rstrip("\n") + "\n")
-        return
-    report(err)
 
 
 __all__ = ["EXPORT_FORMATS", "export_rules", "export_model", "load_model_argument", "add_command", "run"]

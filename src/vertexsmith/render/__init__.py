@@ -46,6 +46,21 @@ def render(rules: "Rules", format: str, **options: Any) -> str:  # noqa: A002 - 
     return result
 
 
+def top_level_cuts(text: str, operators: tuple[str, ...]) -> list[int]:
+    """Positions of the ' op ' separators of `text` that stand outside round brackets (for line breaking)."""
+    cuts: list[int] = []
+    depth = 0
+    for k, char in enumerate(text):
+        if char == "(":
+            depth += 1
+        elif char == ")":
+            depth -= 1
+        elif depth == 0 and k > (cuts[-1] + 1 if cuts else 0) and any(text.startswith(f" {op} ", k)
+                                                                        for op in operators):
+            cuts.append(k)
+    return cuts
+
+
 def rules_to_dict(rules: "Rules") -> dict[str, Any]:
     """The rules as plain JSON-ready data (see `render/rules.schema.json`)."""
     from .json import rules_to_dict as to_dict
@@ -53,4 +68,4 @@ def rules_to_dict(rules: "Rules") -> dict[str, Any]:
     return to_dict(rules)
 
 
-__all__ = ["FORMATS", "EXPORT_FORMATS", "render", "rules_to_dict"]
+__all__ = ["FORMATS", "EXPORT_FORMATS", "render", "rules_to_dict", "top_level_cuts"]

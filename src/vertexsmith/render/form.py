@@ -25,6 +25,7 @@ from typing import Iterable, Iterator
 
 import sympy
 
+from . import top_level_cuts
 from ..rules import P2, Propagator, Rules, Vertex
 from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
                           LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
@@ -314,15 +315,7 @@ def _wrap(statement: str) -> str:
     """Break long statements before a ' + ' or ' - ' outside brackets (a statement ends at its ';')."""
     if len(statement) <= 100:
         return statement
-    cuts: list[int] = []
-    depth = 0
-    for k, char in enumerate(statement):
-        if char == "(":
-            depth += 1
-        elif char == ")":
-            depth -= 1
-        elif depth == 0 and statement.startswith((" + ", " - "), k) and k > 0:
-            cuts.append(k)
+    cuts = top_level_cuts(statement, ("+", "-"))
     lines, start, current_start = [], 0, 0
     for cut in cuts + [len(statement)]:
         if cut - current_start > 96 and start > current_start:

@@ -29,6 +29,7 @@ from sympy.printing.precedence import PRECEDENCE
 from sympy.printing.str import StrPrinter
 
 from ..symbolic import Gamma5, ProjL, ProjR
+from . import top_level_cuts
 from .json import conventions_to_dict
 
 if TYPE_CHECKING:
@@ -328,18 +329,8 @@ def wrap_terms(text: str, limit: int, indent: str = "    ") -> list[str]:
     """Break a long expression before ' + ' or ' − ' outside round brackets, filling lines up to `limit`."""
     if cell_len(text) <= limit:
         return [text]
-    pieces: list[str] = []
-    depth = 0
-    start = 0
-    for k, ch in enumerate(text):
-        if ch == "(":
-            depth += 1
-        elif ch == ")":
-            depth -= 1
-        elif depth == 0 and k > start and text[k:k + 3] in (" + ", f" {MINUS} "):
-            pieces.append(text[start:k])
-            start = k + 1
-    pieces.append(text[start:])
+    bounds = [0] + [cut + 1 for cut in top_level_cuts(text, ("+", MINUS))] + [len(text) + 1]
+    pieces = [text[a:b - 1] for a, b in zip(bounds, bounds[1:])]
     lines = [pieces[0]]
     for piece in pieces[1:]:
         if cell_len(lines[-1]) + 1 + cell_len(piece) <= limit:
