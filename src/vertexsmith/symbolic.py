@@ -261,6 +261,20 @@ def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
     return names
 
 
+def greek_command(char: str) -> str | None:
+    """The TeX math command of a Greek letter (lambda -> \\lambda, Lambda -> \\Lambda), None when TeX has none."""
+    import unicodedata
+
+    name = unicodedata.name(char, "")
+    for prefix, known, capital in (("GREEK SMALL LETTER ", _GREEK_LOWER_COMMANDS, False),
+                                   ("GREEK CAPITAL LETTER ", _GREEK_UPPER_COMMANDS, True)):
+        if name.startswith(prefix):
+            letter = name[len(prefix):].lower().replace("lamda", "lambda")
+            if letter in known:
+                return f"\\{letter.capitalize() if capital else letter}"
+    return None
+
+
 def _ascii_latex(text: str) -> str:
     """A name written with unicode letters (phi written as the Greek letter) in plain-LaTeX commands."""
     import unicodedata
@@ -270,24 +284,25 @@ def _ascii_latex(text: str) -> str:
         if char.isascii():
             out.append(char if char != "_" else r"\_")
             continue
+        command = greek_command(char)
+        if command is not None:
+            out.append(command + " ")
+            continue
         name = unicodedata.name(char, "")
-        for case, command in (("GREEK SMALL LETTER ", str.lower), ("GREEK CAPITAL LETTER ", str.capitalize)):
-            if name.startswith(case):
-                letter = command(name[len(case):].split()[0])
-                letter = {"lamda": "lambda", "Lamda": "Lambda"}.get(letter, letter)
-                if case.startswith("GREEK CAPITAL") and letter not in _UPPER_GREEK_COMMANDS:
-                    out.append(rf"\mathrm{{{_LATIN_LOOKALIKE.get(letter, '?')}}}")
-                else:
-                    out.append(f"\\{letter} ")
-                break
+        if name.startswith("GREEK CAPITAL LETTER "):
+            letter = name[len("GREEK CAPITAL LETTER "):].split()[0].capitalize()
+            out.append(rf"\mathrm{{{_LATIN_LOOKALIKE.get(letter, '?')}}}")
         else:
             out.append(r"\mathrm{?}")
     return "{" + "".join(out).strip() + "}"
 
 
+# Greek letters TeX has commands for, by their unicode names (which spell lambda "lamda")
+_GREEK_LOWER_COMMANDS = set("alpha beta gamma delta epsilon zeta eta theta iota kappa lambda mu nu xi pi rho sigma "
+                            "tau upsilon phi chi psi omega".split())
+_GREEK_UPPER_COMMANDS = {"gamma", "delta", "theta", "lambda", "xi", "pi", "sigma", "upsilon", "phi", "psi", "omega"}
 _LATIN_LOOKALIKE = {"Alpha": "A", "Beta": "B", "Epsilon": "E", "Zeta": "Z", "Eta": "H", "Iota": "I", "Kappa": "K",
                     "Mu": "M", "Nu": "N", "Omicron": "O", "Rho": "P", "Tau": "T", "Chi": "X"}
-_UPPER_GREEK_COMMANDS = {"Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi", "Omega"}
 
 
 _GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu",

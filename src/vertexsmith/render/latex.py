@@ -17,12 +17,11 @@ Symbols go through `symbolic.to_latex` (names and factors alike); plain text
 from __future__ import annotations
 
 import re
-import unicodedata
 from typing import TYPE_CHECKING, Any
 
 import sympy
 
-from ..symbolic import to_latex
+from ..symbolic import greek_command, to_latex
 from .json import conventions_to_dict
 
 if TYPE_CHECKING:
@@ -36,21 +35,9 @@ _TEXT_ESCAPES = {
     "\u2212": "-", "\u2013": "--", "\u2014": "---", "\u2018": "`", "\u2019": "'", "\u201c": "``",
     "\u201d": "''", "\u2026": r"\ldots{}", "\u00d7": r"$\times$", "\u00b7": r"$\cdot$",
 }
-# Greek letters TeX has commands for, by their unicode names (which spell lambda "lamda")
-_GREEK_LOWER = set("alpha beta gamma delta epsilon zeta eta theta iota kappa lambda mu nu xi pi rho sigma tau "
-                   "upsilon phi chi psi omega".split())
-_GREEK_UPPER = {"gamma", "delta", "theta", "lambda", "xi", "pi", "sigma", "upsilon", "phi", "psi", "omega"}
-
-
 def _greek(ch: str) -> str | None:
-    name = unicodedata.name(ch, "")
-    for prefix, known, capital in (("GREEK SMALL LETTER ", _GREEK_LOWER, False),
-                                   ("GREEK CAPITAL LETTER ", _GREEK_UPPER, True)):
-        if name.startswith(prefix):
-            letter = name[len(prefix):].lower().replace("lamda", "lambda")
-            if letter in known:
-                return f"$\\{letter.capitalize() if capital else letter}$"
-    return None
+    command = greek_command(ch)
+    return f"${command}$" if command is not None else None
 
 
 def escape_text(text: str) -> str:
