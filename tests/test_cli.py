@@ -15,7 +15,7 @@ import pytest
 
 import vertexsmith
 from vertexsmith._resources import shipped_models
-from vertexsmith.build import load_model
+from vertexsmith import load_model
 from vertexsmith.cli import main
 
 SRC = str(Path(vertexsmith.__file__).resolve().parents[1])

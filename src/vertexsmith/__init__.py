@@ -11,9 +11,8 @@ from __future__ import annotations
 from pathlib import Path
 
 from ._resources import shipped_model, shipped_models
-from .build import load_model
 from .errors import DerivationError, ModelMeaningError, ModelSyntaxError, UsageError, VertexsmithError
-from .model import Model
+from .pipeline import Model, load_model
 from .rules import Leg, Propagator, Rules, Vertex
 
 __version__ = "0.1.0"

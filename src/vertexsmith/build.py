@@ -7,19 +7,18 @@ names become our own sympy symbols; no user text is ever evaluated.
 
 from __future__ import annotations
 
-import cmath
 from collections import Counter
 from fractions import Fraction
-from pathlib import Path
-from typing import Any, Iterable
+from typing import Iterable
 
 import sympy
 
 from . import model as m
 from . import syntax as sx
-from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
+from .errors import ModelMeaningError, Source, Span, did_you_mean
 from .groups import representation_name
-from .parse import MAX_NUMBER_DIGITS, parse_text
+from .parse import MAX_NUMBER_DIGITS
+from .values import resolve_values_from
 
 # built-in objects of the Lagrangian and the number of indices each takes
 _DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
@@ -35,25 +34,8 @@ BUILTIN_NAMES = tuple(sorted(set(_DIRAC) | set(_TENSORS) | set(_DERIVATIVES) | s
 MAX_FIELD_POWER = 12
 
 
-def load_model(path: str | Path | None = None, *, text: str | None = None, name: str | None = None) -> m.Model:
-    """Read and build a model from a file path or from text (`text=`)."""
-    if text is None:
-        if path is None:
-            raise UsageError("give a model file path or text=")
-        file = Path(path)
-        try:
-            text = file.read_text(encoding="utf-8")
-        except UnicodeDecodeError:
-            raise UsageError(f"{file}: not a UTF-8 text file", hint="save the model as plain UTF-8 text") from None
-        except OSError as exc:
-            raise UsageError(f"{file}: cannot read the model file ({exc.strerror or exc})",
-                             hint="check the path") from None
-        name = name or str(path)
-    if not isinstance(text, str):
-        raise UsageError("load_model(text=...) takes a str", hint="decode bytes first: data.decode('utf-8')")
-    text = text.removeprefix("\ufeff")  # a byte-order mark some editors write
-    source = Source(name or "<model>", text)
-    syntax = parse_text(text, source.name)
+def build_model(syntax: sx.ModelFile, source: Source) -> m.Model:
+    """Give a parsed model file its meaning: the plain `Model` record (errors carry the source)."""
     try:
         return _Builder(syntax, source).build()
     except ModelMeaningError as exc:
@@ -681,54 +663,3 @@ def _names_in(node: sx.Expr) -> set[str]:
 
 def _certainly_complex(expr: sympy.Expr) -> bool:
     return bool(expr.free_symbols == set() and expr.is_real is False)
-
-
-def resolve_values_from(parameters: dict[str, m.Parameter],
-                        overrides: dict[str, complex]) -> dict[sympy.Symbol, complex]:
-    """Numeric values for every parameter that has one, definitions evaluated in order."""
-    values: dict[sympy.Symbol, complex] = {}
-    for name, value in overrides.items():
-        if name not in parameters:
-            raise UsageError(f"unknown parameter '{name}' in values",
-                             hint=did_you_mean(name, parameters, "use the model's parameter names"))
-        values[parameters[name].symbol] = _number_value(name, value)
-    changed = True
-    while changed:
-        changed = False
-        for p in parameters.values():
-            if p.symbol in values or p.definition is None:
-                continue
-            if p.definition.free_symbols <= set(values):
-                own = {s: values[s] for s in p.definition.free_symbols}
-                result = (p.definition.subs(own) if own else p.definition).evalf()
-                try:
-                    number = complex(result)
-                except (TypeError, OverflowError):
-                    number = complex("nan")
-                if not cmath.isfinite(number):
-                    raise ModelMeaningError(f"the value of '{p.name}' is not a finite number ({result})", p.span,
-                                            "check the value and the parameters it is defined from")
-                values[p.symbol] = number
-                changed = True
-    return values
-
-
-def _number_value(name: str, value: Any) -> complex:
-    try:
-        number = complex(value)
-    except (TypeError, ValueError):
-        raise UsageError(f"the value given for '{name}' is not a number: {value!r}",
-                         hint=f"pass values={{'{name}': 0.3}}") from None
-    if not cmath.isfinite(number):
-        raise UsageError(f"the value given for '{name}' is not a finite number: {value!r}")
-    return number
-
-
-def resolve_values(model: m.Model, overrides: dict[str, complex]) -> dict[sympy.Symbol, complex]:
-    """Parameter values, with the gauge parameters xi_<boson> accepted beside the model's own."""
-    gauge_parameters = {str(g.xi): g.xi for g in model.groups.values()}
-    values = resolve_values_from(model.parameters, {k: v for k, v in overrides.items() if k not in gauge_parameters})
-    for name, value in overrides.items():
-        if name in gauge_parameters:
-            values[gauge_parameters[name]] = _number_value(name, value)
-    return values

@@ -225,7 +225,7 @@ class _Checker:
         self.check_mixing(good)
         self.check_quadratic(good)
         self.check_hermiticity(good)
-        self.check_derivation()
+        self.check_derivation(monomials)
         unique = {(d.severity, d.message, d.span, d.hint): d for d in self.diagnostics}
         return sorted(unique.values(), key=Diagnostic.sort_key)
 
@@ -414,10 +414,10 @@ class _Checker:
                  "add '+ h.c.' at the end of the line")
 
     # -------------------------------------------------------------- what derive would refuse
-    def check_derivation(self) -> None:
+    def check_derivation(self, monomials: list[Monomial]) -> None:
         """Errors of the derivation itself (unrotated mixing, kernels that cannot be inverted)."""
         try:
-            derive_rules(self.model, gauge="xi")
+            derive_rules(self.model, monomials, gauge="xi")
         except VertexsmithError as error:
             taken = {d.span.line for d in self.diagnostics if d.severity == "error"}
             if error.span.line not in taken:

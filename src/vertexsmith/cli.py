@@ -26,7 +26,7 @@ from typing import IO, TYPE_CHECKING, Sequence
 from .errors import UsageError, VertexsmithError
 
 if TYPE_CHECKING:
-    from .model import Model
+    from .pipeline import Model
 
 EXIT_OK = 0
 EXIT_MODEL = 1
@@ -47,7 +47,7 @@ def resolve_model(name: str) -> Path:
 
 def load(name: str) -> "Model":
     """Load a model given on the command line (path or shipped name)."""
-    from .build import load_model
+    from .pipeline import load_model
 
     path = resolve_model(name)
     return load_model(path)
@@ -187,7 +187,7 @@ def command_check(args: argparse.Namespace) -> int:
 def command_models(args: argparse.Namespace) -> int:
     """vertexsmith models: list the shipped example models with their descriptions."""
     from ._resources import shipped_models
-    from .build import load_model
+    from .pipeline import load_model
 
     paths = shipped_models()
     width = max((len(p.stem) for p in paths), default=0)

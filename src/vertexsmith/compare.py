@@ -52,6 +52,7 @@ import sympy
 from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
 from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita, lower, slash
 from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAND_BYTES was defined here
+from .pipeline import derive
 from .rules import MU, NU, P, Leg, Propagator, Rules, Vertex
 from .structures import permutation_sign
 from .symbolic import (Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
@@ -900,7 +901,7 @@ class _Checker:
     def run(self) -> ComparisonReport:
         seen: dict[tuple[str, tuple[str, ...]], Span] = {}
         gauge = self.hand.gauge or self.rules.gauge
-        gauge_rules = self.rules if gauge == self.rules.gauge else self.model.derive(gauge=gauge)
+        gauge_rules = self.rules if gauge == self.rules.gauge else derive(self.model, gauge=gauge)
         entries: list[Comparison] = []
         for rule in self.hand.rules:
             self._label_check(rule)
@@ -967,7 +968,7 @@ def compare_files(model: "str | Path | Model", hand_path: str | Path, gauge: str
     hand = read_hand_rules(hand_path)
     if gauge is not None:
         hand = replace(hand, gauge=gauge)
-    rules = loaded.derive(gauge=hand.gauge or "feynman")  # derive() attaches the model's source to its errors
+    rules = derive(loaded, gauge=hand.gauge or "feynman")  # derive() attaches the model's source to its errors
     return compare_rules(rules, hand, points, seed)
 
 

@@ -13,13 +13,13 @@ import itertools
 import math
 from collections import defaultdict
 from fractions import Fraction
-from typing import Iterable, Iterator
+from typing import Iterable, Iterator, Sequence
 
 import sympy
 
 from . import model as m
 from .errors import DerivationError, UsageError
-from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom, expand_model
+from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom
 from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
@@ -561,11 +561,11 @@ def _no_kernel(f: m.Field) -> DerivationError:
 
 # ------------------------------------------------------------------ everything
 
-def derive_rules(model: m.Model, gauge: str = "xi") -> Rules:
-    """Every vertex (three or more legs) and every propagator of a model."""
+def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi") -> Rules:
+    """Every vertex (three or more legs) and every propagator of a model, from its expanded monomials."""
     if gauge not in GAUGES:
         raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
-    monomials = list(expand_model(model)) + ghost_monomials(model, gauge)
+    monomials = list(monomials) + ghost_monomials(model, gauge)
     for mono in monomials:
         check_chains(model, mono)
     groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)

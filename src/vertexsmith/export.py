@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING
 from .errors import UsageError
 
 if TYPE_CHECKING:
-    from .model import Model
+    from .pipeline import Model
     from .rules import Rules
 
 EXPORT_FORMATS = ("python", "json", "latex", "form")
@@ -49,7 +49,7 @@ def export_rules(rules: "Rules", to: str) -> str:
 def load_model_argument(name: str | Path) -> "Model":
     """A model given as a path to a file or as the name of a shipped model (`qed`, `dark_sector`)."""
     from ._resources import resolve_model_argument
-    from .build import load_model
+    from .pipeline import load_model
 
     return load_model(resolve_model_argument(name))
 
@@ -62,9 +62,10 @@ def export_model(model: "str | Path | Model", to: str = "python", output: str | 
     line runs; scripts use it to regenerate an exported module (see examples/).
     """
     from .model import Model
+    from .pipeline import derive
 
     loaded = model if isinstance(model, Model) else load_model_argument(model)
-    rules = loaded.derive(gauge=gauge)  # derive() attaches the model's source to its errors
+    rules = derive(loaded, gauge=gauge)  # derive() attaches the model's source to its errors
     text = export_rules(rules, to)
     if output is not None:
         _write(text, str(output))

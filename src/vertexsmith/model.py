@@ -1,6 +1,7 @@
 """The meaning of a model file: declarations and the Lagrangian as a typed expression tree.
 
-`build` produces a `Model`; nothing here knows about text. The Lagrangian nodes (`L*` classes)
+`build` produces a `Model`; nothing here knows about text or about the stages that read a model
+(this module imports none of them: the pipeline lives in `pipeline.py`). The Lagrangian nodes (`L*` classes)
 are resolved: every name is a field, a parameter, a definition or a built-in object, every
 number a sympy number, and every index checked.
 """
@@ -10,14 +11,12 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import TYPE_CHECKING, Any, Union
+from typing import Mapping, Union
 
 import sympy
 
 from .errors import Source, Span
-
-if TYPE_CHECKING:
-    from .rules import Rules
+from .values import resolve_values
 
 FERMION_KINDS = ("dirac", "majorana")
 GRASSMANN_KINDS = ("dirac", "majorana", "ghost")
@@ -243,7 +242,11 @@ class Term:
 
 @dataclass(frozen=True, eq=False)
 class Model:
-    """A built model: declarations, definitions, Lagrangian terms and conventions."""
+    """A built model as plain data: declarations, definitions, Lagrangian terms and conventions.
+
+    Every stage takes and returns records like this one; `pipeline.Model`, the class users get
+    from `load_model`, adds the conveniences `derive`, `check` and `monomials` on top.
+    """
 
     name: str
     description: str
@@ -255,33 +258,9 @@ class Model:
     conventions: Conventions
     source: Source
 
-    def derive(self, gauge: str = "xi") -> "Rules":
-        """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'."""
-        from .derive import derive_rules
-        from .errors import UsageError, VertexsmithError
-
-        try:
-            return derive_rules(self, gauge=gauge)
-        except UsageError:
-            raise
-        except VertexsmithError as exc:
-            raise exc.with_source(self.source) from None
-
-    def monomials(self) -> tuple[Any, ...]:
-        """The Lagrangian expanded into monomials (coefficient times ordered field factors)."""
-        from .errors import VertexsmithError
-        from .expand import expand_model
-
-        try:
-            return expand_model(self)
-        except VertexsmithError as exc:
-            raise exc.with_source(self.source) from None
-
-    def parameter_values(self, overrides: dict[str, complex] | None = None) -> dict[sympy.Symbol, complex]:
+    def parameter_values(self, overrides: Mapping[str, complex] | None = None) -> dict[sympy.Symbol, complex]:
         """Numeric values of all parameters: the model's own numbers, overridden by the caller's."""
-        from .build import resolve_values
-
-        return resolve_values(self, overrides or {})
+        return resolve_values(self.parameters, self.groups, overrides or {})
 
     @property
     def has_non_abelian(self) -> bool:

@@ -1,0 +1,118 @@
+"""The pipeline, in one place: text -> syntax -> Model -> monomials -> Rules, and the diagnostics.
+
+    parse ─▶ build ─▶ [model stages] ─▶ expand ─▶ derive ─▶ Rules
+                                                  └──────▶ check ─▶ Diagnostics
+
+Each stage is a module of functions that take data and return data, and imports only the stages
+to its left; this module is the only one that knows their order. `model.Model` is plain data;
+the `Model` defined here is what `load_model` returns: the same record plus the conveniences
+`derive`, `check` and `monomials`, which call the functions below.
+
+A stage that rewrites a built model before it is expanded (symmetry breaking: a vacuum shift,
+rotations to mass eigenstates) is a function `Model -> Model` in a module of its own; it joins
+the pipeline by being added to `MODEL_STAGES`, and expand, derive and check then read its result.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from pathlib import Path
+from typing import Callable
+
+from . import model as m
+from .build import build_model
+from .check import Diagnostic, check_model
+from .derive import derive_rules
+from .errors import Source, UsageError, VertexsmithError
+from .expand import Monomial, expand_model
+from .parse import parse_text
+from .rules import Rules
+
+ModelStage = Callable[[m.Model], m.Model]
+# stages between build and expand, applied in this order (empty until symmetry breaking arrives)
+MODEL_STAGES: tuple[ModelStage, ...] = ()
+
+
+def read_model_text(path: str | Path | None = None, *, text: str | None = None,
+                    name: str | None = None) -> Source:
+    """The text of a model with the name its errors will carry: from a file, or given as `text=`."""
+    if text is None:
+        if path is None:
+            raise UsageError("give a model file path or text=")
+        file = Path(path)
+        try:
+            text = file.read_text(encoding="utf-8")
+        except UnicodeDecodeError:
+            raise UsageError(f"{file}: not a UTF-8 text file", hint="save the model as plain UTF-8 text") from None
+        except OSError as exc:
+            raise UsageError(f"{file}: cannot read the model file ({exc.strerror or exc})",
+                             hint="check the path") from None
+        name = name or str(path)
+    if not isinstance(text, str):
+        raise UsageError("load_model(text=...) takes a str", hint="decode bytes first: data.decode('utf-8')")
+    text = text.removeprefix("\ufeff")  # a byte-order mark some editors write
+    return Source(name or "<model>", text)
+
+
+def prepare_model(model: m.Model) -> m.Model:
+    """The built model after every stage of `MODEL_STAGES`, the form expand and derive read."""
+    for stage in MODEL_STAGES:
+        model = stage(model)
+    return model
+
+
+def expand(model: m.Model) -> tuple[Monomial, ...]:
+    """The Lagrangian of a model as monomials; errors carry the model's source."""
+    try:
+        return expand_model(prepare_model(model))
+    except VertexsmithError as exc:
+        raise exc.with_source(model.source) from None
+
+
+def derive(model: m.Model, gauge: str = "xi") -> Rules:
+    """Every vertex and propagator of a model; gauge is 'xi', 'feynman' or 'unitary'."""
+    try:
+        prepared = prepare_model(model)
+        return derive_rules(prepared, expand_model(prepared), gauge=gauge)
+    except UsageError:
+        raise
+    except VertexsmithError as exc:
+        raise exc.with_source(model.source) from None
+
+
+def check(model: m.Model) -> list[Diagnostic]:
+    """Every diagnostic of a model (never raises for a problem of the model itself)."""
+    return check_model(prepare_model(model))
+
+
+@dataclasses.dataclass(frozen=True, eq=False)
+class Model(m.Model):
+    """A model as users hold it: the plain record of `model.Model` plus the pipeline's conveniences."""
+
+    def derive(self, gauge: str = "xi") -> Rules:
+        """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'."""
+        return derive(self, gauge)
+
+    def check(self) -> list[Diagnostic]:
+        """Every diagnostic of the model, ordered by line, column and message."""
+        return check(self)
+
+    def monomials(self) -> tuple[Monomial, ...]:
+        """The Lagrangian expanded into monomials (coefficient times ordered field factors)."""
+        return expand(self)
+
+    @classmethod
+    def of(cls, record: m.Model) -> "Model":
+        """The same model with the conveniences (a record of another stage, e.g. a rewritten model)."""
+        if isinstance(record, cls):
+            return record
+        return cls(**{f.name: getattr(record, f.name) for f in dataclasses.fields(record)})
+
+
+def load_model(path: str | Path | None = None, *, text: str | None = None, name: str | None = None) -> Model:
+    """Read and build a model from a file path or from text (`text=`)."""
+    source = read_model_text(path, text=text, name=name)
+    return Model.of(build_model(parse_text(source.text, source.name), source))
+
+
+__all__ = ["MODEL_STAGES", "Model", "check", "derive", "expand", "load_model", "prepare_model", "read_model_text"]
