@@ -124,3 +124,19 @@ def test_chiral_massless_propagator(field: str, projector: str, dirac, rng: np.r
     proj = getattr(dirac, projector)
     expected = 1j * proj @ dirac.slash(p) / dirac.dot(p, p)
     assert np.allclose(rules.propagator(field).evaluate(p), expected)
+
+
+@pytest.mark.parametrize("rank, name, meaning", [(2, "doublet", None), (3, "triplet", None), (4, "triplet", "unknown")])
+def test_names_by_dimension_depend_on_the_group(rank: int, name: str, meaning: str | None) -> None:
+    # "triplet" is the fundamental of SU(3) but names no representation of SU(4) (common practice,
+    # no source): the latter is a positioned error, not a crash in the name lookup
+    text = (f"theory t\nparameters\n  coupling g = 0.5\ngauge\n  big SU({rank}) boson B strength BS coupling g\n"
+            f"fields\n  vector B\n  scalar x complex in big {name}\nlagrangian\n  -1/4 BS[mu,nu,a] BS[mu,nu,a]\n"
+            "  dag(D[mu] x) D[mu] x\n")
+    if meaning is None:
+        assert vs.load_model(text=text, name="t.vsm").fields["x"].representations
+        return
+    with pytest.raises(vs.ModelMeaningError) as info:
+        vs.load_model(text=text, name="t.vsm")
+    assert (info.value.span.line, info.value.span.column) == (8, 20)
+    assert info.value.message == f"unknown representation '{name}' of SU({rank})"
