@@ -101,7 +101,8 @@ def test_module_tables(exported: dict) -> None:
     for vertex in rules.vertices:
         text = module.SYMBOLIC[vertex_function_name(vertex.labels)]
         assert sympy.simplify(parse_factor(text) - parse_factor(str(vertex.factor))) == 0
-    assert str(module.symbolic("vertex_bar_ele__ele__A")) == "-I*e*Gamma(mu3)"
+    assert module.SYMBOLIC["vertex_bar_ele__ele__A"] == "(-I*e)*gamma[mu3]"  # the model language
+    assert str(module.symbolic("vertex_bar_ele__ele__A")) == "-I*e*gamma(mu3)"
 
 
 def test_parameters_follow_their_definitions(exported: dict) -> None:

@@ -55,7 +55,7 @@ from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAN
 from .pipeline import derive
 from .rules import MU, NU, P, Leg, Propagator, Rules, Vertex
 from .structures import permutation_sign
-from .symbolic import (Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
+from .symbolic import (factor_text, Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
                        Sigma, Slash, StructureConstant)
 from .syntax import (HandRule, HandRules, HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient,
                      HSum)
@@ -344,6 +344,7 @@ class _Numeric:
     def _HName(self, node: HName) -> _Value:  # noqa: C901 - one branch per built-in name
         name, indices, span = node.name, node.indices, node.span
         ctx = self.ctx
+        name, named_group = _group_tensor_name(name, indices, ctx)
         if name in ctx.momentum_names:
             if not indices:
                 return _Value(self.momenta[name], momentum=True)
@@ -351,7 +352,7 @@ class _Numeric:
                 raise ctx.error(f"the momentum {name} takes one index", span)
             return self.tensor(self.momenta[name], indices, False, span)
         expected = {"gamma": 1, "sigma": 2, "g": 2, "eps": 4, "f": 3, "T": 3, "delta": 2}
-        if name in expected and name not in ctx.parameters:
+        if name in expected and (indices or name not in ctx.parameters):  # g[mu,nu] is the metric even beside a coupling g
             if len(indices) != expected[name]:
                 raise ctx.error(f"{name} takes {expected[name]} index{'es' if expected[name] > 1 else ''}", span)
             if name == "gamma":
@@ -362,7 +363,7 @@ class _Numeric:
                 return self.tensor(METRIC, indices, False, span)
             if name == "eps":
                 return self.tensor(levi_civita(ctx.eps0123), indices, False, span)
-            return self._group_tensor(name, indices, span)
+            return self._group_tensor(name, indices, span, named_group)
         if indices:
             raise ctx.error(f"'{name}' takes no index", span)
         if name == "I":
@@ -378,11 +379,14 @@ class _Numeric:
         raise ctx.error(f"unknown name '{name}'", span, did_you_mean(name, ctx.known_names(),
                                                                      "use the model's parameters and the built-in names"))
 
-    def _group_tensor(self, name: str, indices: Sequence[tuple[str, Span]], span: Span) -> _Value:
+    def _group_tensor(self, name: str, indices: Sequence[tuple[str, Span]], span: Span,
+                      named_group: str | None = None) -> _Value:
         ctx = self.ctx
         leg_groups = {ctx.spaces[n].group for n, _ in indices if n in ctx.spaces}
         non_abelian = [g for g in ctx.model.groups.values() if getattr(g, "rank", 1) > 1]
-        if len(leg_groups) == 1:
+        if named_group is not None:
+            group = named_group
+        elif len(leg_groups) == 1:
             group = leg_groups.pop()
         elif len(non_abelian) == 1 and not leg_groups:
             group = non_abelian[0].name
@@ -452,6 +456,14 @@ class _Numeric:
         if not isinstance(node, HNumber) or node.value.denominator != 1 or not 1 <= node.value <= len(self.ctx.legs):
             raise self.ctx.error(f"chain() needs leg numbers between 1 and {len(self.ctx.legs)}", node.span)
         return int(node.value)
+
+
+def _group_tensor_name(name: str, indices: Sequence[tuple[str, Span]], ctx: _Context) -> tuple[str, str | None]:
+    """f_color[...], T_color[...], delta_color[...] (the group in the name, as vertexsmith writes them) -> (f, color)."""
+    base, _, group = name.partition("_")
+    if indices and group and base in ("f", "T", "delta") and name not in ctx.parameters and group in ctx.model.groups:
+        return base, group
+    return name, None
 
 
 def _layout(ctx: _Context, value: _Value, span: Span) -> np.ndarray:
@@ -569,12 +581,13 @@ class _Symbolic:
 
     def _HName(self, node: HName) -> sympy.Expr:
         ctx, name = self.ctx, node.name
+        name, named_group = _group_tensor_name(name, node.indices, ctx)
         slots = [self._slot(n) for n, _ in node.indices]
         is_momentum = [n in ctx.momentum_names for n, _ in node.indices]
         if name in ctx.momentum_names:
             p = self._slot(name)
             return FourVector(p, slots[0]) if slots else p
-        if name in ("gamma", "sigma", "g", "eps", "f", "T", "delta") and name not in ctx.parameters:
+        if name in ("gamma", "sigma", "g", "eps", "f", "T", "delta") and (node.indices or name not in ctx.parameters):
             if name == "gamma":
                 return Slash(slots[0]) if is_momentum[0] else Gamma(slots[0])
             if name == "sigma":
@@ -588,7 +601,7 @@ class _Symbolic:
                 return Metric(*slots)
             if name == "eps":
                 return LeviCivita(*slots)
-            group = next((ctx.spaces[n].group for n, _ in node.indices if n in ctx.spaces), "")
+            group = named_group or next((ctx.spaces[n].group for n, _ in node.indices if n in ctx.spaces), "")
             cls = {"f": StructureConstant, "T": Generator, "delta": GroupDelta}[name]
             return cls(sympy.Symbol(group), *slots)
         if name == "I":
@@ -872,7 +885,7 @@ class _Checker:
                   derived: list[np.ndarray], candidates: list[tuple[str, list[np.ndarray]]], ctx: _Context,
                   orientation: int) -> Comparison:
         if all(_close(h, d) for h, d in zip(hand, derived)):
-            return Comparison(kind, rule.legs, EQUAL, hand=rule.text, derived=str(orientation * derived_factor),
+            return Comparison(kind, rule.legs, EQUAL, hand=rule.text, derived=factor_text(orientation * derived_factor),
                               span=rule.span)
         matched = [name for name, values in candidates if all(_close(h, v) for h, v in zip(hand, values))]
         for name, factor in ((SIGN_CONVENTION, -1), (PLUS_I_CONVENTION, 1j), (MINUS_I_CONVENTION, -1j)):
@@ -881,8 +894,8 @@ class _Checker:
         symbolic = self._difference(rule, derived_factor, ctx, orientation)
         if matched:
             return Comparison(kind, rule.legs, CONVENTION, tuple(matched), rule.text,
-                              str(orientation * derived_factor), symbolic, _constant_ratio(hand, derived), rule.span)
-        return Comparison(kind, rule.legs, DIFFERENT, (), rule.text, str(orientation * derived_factor), symbolic,
+                              factor_text(orientation * derived_factor), symbolic, _constant_ratio(hand, derived), rule.span)
+        return Comparison(kind, rule.legs, DIFFERENT, (), rule.text, factor_text(orientation * derived_factor), symbolic,
                           _constant_ratio(hand, derived), rule.span)
 
     def _difference(self, rule: HandRule, derived_factor: sympy.Expr, ctx: _Context, orientation: int) -> str:
@@ -896,7 +909,7 @@ class _Checker:
                 difference = sympy.factor_terms(sympy.together(difference))
         except (TypeError, ValueError, AttributeError, sympy.SympifyError):  # pragma: no cover - display only
             return "(no symbolic form)"
-        return str(difference)
+        return factor_text(difference)
 
     def run(self) -> ComparisonReport:
         seen: dict[tuple[str, tuple[str, ...]], Span] = {}

@@ -18,7 +18,7 @@ import sympy
 from .errors import UsageError, did_you_mean
 from .numeric import GAMMA, IDENTITY4, METRIC, PROJ_L, PROJ_R, evaluate_structure, lower, minkowski_dot, slash
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
-from .symbolic import (FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
+from .symbolic import (factor_text, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
@@ -189,6 +189,11 @@ class Vertex:
         return sympy.Add(*pieces)
 
     @property
+    def text(self) -> str:
+        """The factor in the output vocabulary (the model language: gamma[mu3], g[mu1,mu2], ...)."""
+        return factor_text(self.factor)
+
+    @property
     def latex(self) -> str:
         return " + ".join(_part_latex(p) for p in self.parts).replace("+ -", "- ")
 
@@ -313,6 +318,11 @@ class Propagator:
                       for k, (g, _, _) in enumerate(self.representations)]
             return sympy.Mul(*deltas, expr, evaluate=False)
         return expr
+
+    @property
+    def text(self) -> str:
+        """The factor in the output vocabulary (the model language: slash(p), g[mu,nu], p^2, ...)."""
+        return factor_text(self.factor)
 
     @property
     def latex(self) -> str:

@@ -1,9 +1,16 @@
-"""Our own sympy objects for Lorentz and Dirac structures, so that factors are sympy expressions.
+"""Our own sympy objects for Lorentz, Dirac and group structures, so that factors are sympy expressions.
 
-`Metric(mu1, mu2)`, `FourVector(p1 - p2, mu3)`, `Dot(p1, p2)`, `LeviCivita(...)` commute;
-`Gamma(mu1)`, `Slash(p1)`, `Sigma(mu1, mu2)`, `Gamma5`, `ProjL`, `ProjR` do not. A product of
-several spinor chains is written `Chain(1, 2, M)`, the matrix M between bar(leg 1) and leg 2.
-`parse_factor(text)` reads the string form back (only these names are known to it).
+`Metric`, `FourVector`, `Dot`, `LeviCivita` and the group tensors commute; `Gamma`, `Slash`,
+`Sigma`, `Gamma5`, `ProjL`, `ProjR` do not. The classes are internal; as text they speak the
+model language itself (the output vocabulary, documented once in the README and the JSON
+schema), so that a factor can be pasted back into a model or a hand-rules file:
+
+    g[mu1,mu2]  p1[mu3]  (p1 - p2)[mu3]  dot(p1, p2)  eps[mu1,mu2,p1,p2]
+    gamma[mu3]  slash(p1)  sigma[mu1,mu2]  gamma5  PL  PR  chain(1, 2, M)
+    f_color[a1,a2,a3]  T_color[a3,i1,i2]  delta_color[i1,i2]
+
+`str()` of a factor uses these names with sympy's `**` and `conjugate`; `factor_text()` gives
+the model language exactly (`^`, `conj`). `parse_factor(text)` reads either form back.
 """
 
 from __future__ import annotations
@@ -12,6 +19,7 @@ from typing import Any
 
 import sympy
 from sympy.printing.latex import LatexPrinter
+from sympy.printing.str import StrPrinter
 
 from .structures import (Chain as ChainStruct, Chiral, Dot as DotStruct, Dummy, Epsilon, Gamma as GammaStruct,
                          Generator as GeneratorStruct, GroupDelta as GroupDeltaStruct, GroupDummy, LegGroupIndex,
@@ -40,37 +48,68 @@ def _latex_momentum(p: Any, printer: LatexPrinter) -> str:
     return f"({text})" if isinstance(p, sympy.Add) else text
 
 
+def _own_text(expr: Any, printer: Any, text: "Any") -> str:
+    """The model-language text of one of our objects, unless the printer has its own method for it."""
+    method = getattr(printer, "_print_" + type(expr).__name__, None)
+    return method(expr) if method is not None else text()
+
+
+def _slot_text(slot: Any, printer: Any) -> str:
+    return printer._print(slot)
+
+
+def _bracketed(name: str, slots: tuple, printer: Any) -> str:
+    return name + "[" + ",".join(_slot_text(x, printer) for x in slots) + "]"
+
+
 class Metric(sympy.Function):
-    """g^{mu nu}, metric (+,-,-,-)."""
+    """g^{mu nu}, metric (+,-,-,-); text g[mu,nu]."""
 
     nargs = 2
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed("g", self.args, printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         return f"g^{{{_latex_index(self.args[0], printer)} {_latex_index(self.args[1], printer)}}}"
 
 
 class FourVector(sympy.Function):
-    """p^mu for a (combination of) incoming momenta."""
+    """p^mu for a (combination of) incoming momenta; text p1[mu3] or (p1 - p2)[mu3]."""
 
     nargs = 2
+
+    def _sympystr(self, printer: Any) -> str:
+        def text() -> str:
+            p = printer._print(self.args[0])
+            if not isinstance(self.args[0], sympy.Symbol):
+                p = f"({p})"
+            return f"{p}[{printer._print(self.args[1])}]"
+        return _own_text(self, printer, text)
 
     def _latex(self, printer: LatexPrinter) -> str:
         return f"{_latex_momentum(self.args[0], printer)}^{{{_latex_index(self.args[1], printer)}}}"
 
 
 class Dot(sympy.Function):
-    """p.q = p^mu q_mu."""
+    """p.q = p^mu q_mu; text dot(p, q)."""
 
     nargs = 2
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: f"dot({printer._print(self.args[0])}, {printer._print(self.args[1])})")
 
     def _latex(self, printer: LatexPrinter) -> str:
         return f"{_latex_momentum(self.args[0], printer)} \\cdot {_latex_momentum(self.args[1], printer)}"
 
 
 class LeviCivita(sympy.Function):
-    """epsilon^{mu nu rho sigma}; a momentum in a slot is contracted."""
+    """epsilon^{mu nu rho sigma}; a momentum in a slot is contracted; text eps[mu1,mu2,p1,p2]."""
 
     nargs = 4
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed("eps", self.args, printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         parts = []
@@ -81,30 +120,39 @@ class LeviCivita(sympy.Function):
 
 
 class Gamma(sympy.Function):
-    """gamma^mu (non-commuting)."""
+    """gamma^mu (non-commuting); text gamma[mu]."""
 
     nargs = 1
     is_commutative = False
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed("gamma", self.args, printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         return f"\\gamma^{{{_latex_index(self.args[0], printer)}}}"
 
 
 class Slash(sympy.Function):
-    """p-slash = gamma^mu p_mu (non-commuting)."""
+    """p-slash = gamma^mu p_mu (non-commuting); text slash(p)."""
 
     nargs = 1
     is_commutative = False
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: f"slash({printer._print(self.args[0])})")
 
     def _latex(self, printer: LatexPrinter) -> str:
         return f"\\not{{{_latex_momentum(self.args[0], printer)}}}"
 
 
 class Sigma(sympy.Function):
-    """sigma^{mu nu} = (i/2)[gamma^mu, gamma^nu] (non-commuting)."""
+    """sigma^{mu nu} = (i/2)[gamma^mu, gamma^nu] (non-commuting); text sigma[mu,nu]."""
 
     nargs = 2
     is_commutative = False
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed("sigma", self.args, printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         parts = [_latex_index(a, printer) if isinstance(a, sympy.Symbol) and not str(a).startswith("p")
@@ -113,9 +161,12 @@ class Sigma(sympy.Function):
 
 
 class Chain(sympy.Function):
-    """Chain(i, j, M): the spinor chain bar(leg i) M leg j, for vertices with several chains."""
+    """The spinor chain bar(leg i) M leg j, for vertices with several chains; text chain(i, j, M)."""
 
     nargs = 3
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: "chain(" + ", ".join(printer._print(a) for a in self.args) + ")")
 
     def _latex(self, printer: LatexPrinter) -> str:
         i, j, mat = self.args
@@ -132,18 +183,24 @@ def _latex_group_index(s: Any, printer: LatexPrinter) -> str:
 
 
 class StructureConstant(sympy.Function):
-    """f^{abc} of the group named by the first argument."""
+    """f^{abc} of the group named by the first argument; text f_color[a1,a2,a3]."""
 
     nargs = 4
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed(f"f_{self.args[0]}", self.args[1:], printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         return "f^{" + " ".join(_latex_group_index(a, printer) for a in self.args[1:]) + "}"
 
 
 class Generator(sympy.Function):
-    """(T^a)_{ij} in the fundamental of the group named by the first argument."""
+    """(T^a)_{ij} in the fundamental of the group named by the first argument; text T_color[a3,i1,i2]."""
 
     nargs = 4
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed(f"T_{self.args[0]}", self.args[1:], printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         a, i, j = (_latex_group_index(x, printer) for x in self.args[1:])
@@ -151,26 +208,42 @@ class Generator(sympy.Function):
 
 
 class GroupDelta(sympy.Function):
-    """delta of a group's index space (the group named by the first argument)."""
+    """delta of a group's index space (the group named by the first argument); text delta_color[i1,i2]."""
 
     nargs = 3
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed(f"delta_{self.args[0]}", self.args[1:], printer))
 
     def _latex(self, printer: LatexPrinter) -> str:
         i, j = (_latex_group_index(x, printer) for x in self.args[1:])
         return f"\\delta_{{{i} {j}}}"
 
 
-Gamma5 = sympy.Symbol("Gamma5", commutative=False)
-ProjL = sympy.Symbol("ProjL", commutative=False)
-ProjR = sympy.Symbol("ProjR", commutative=False)
+Gamma5 = sympy.Symbol("gamma5", commutative=False)
+ProjL = sympy.Symbol("PL", commutative=False)
+ProjR = sympy.Symbol("PR", commutative=False)
 _CHIRAL_SYMBOLS = {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR}
 LATEX_NAMES = {Gamma5: r"\gamma^5", ProjL: "P_L", ProjR: "P_R"}
 
-NAMESPACE: dict[str, Any] = {"Metric": Metric, "FourVector": FourVector, "Dot": Dot, "LeviCivita": LeviCivita,
-                             "Gamma": Gamma, "Slash": Slash, "Sigma": Sigma, "Chain": Chain, "Gamma5": Gamma5,
-                             "ProjL": ProjL, "ProjR": ProjR, "I": sympy.I, "pi": sympy.pi,
-                             "StructureConstant": StructureConstant, "Generator": Generator,
-                             "GroupDelta": GroupDelta}
+# the functions of the output vocabulary that are written with round brackets
+NAMESPACE: dict[str, Any] = {"dot": Dot, "slash": Slash, "chain": Chain, "conj": sympy.conjugate,
+                             "gamma5": Gamma5, "PL": ProjL, "PR": ProjR, "I": sympy.I, "pi": sympy.pi}
+
+
+class _TextPrinter(StrPrinter):
+    """sympy's string printer speaking the model language: x^2 and conj(y) rather than x**2, conjugate(y)."""
+
+    def _print_Pow(self, expr: sympy.Pow, rational: bool = False) -> str:
+        return str(super()._print_Pow(expr, rational)).replace("**", "^")
+
+    def _print_conjugate(self, expr: sympy.Expr) -> str:
+        return f"conj({self._print(expr.args[0])})"
+
+
+def factor_text(expr: sympy.Expr) -> str:
+    """A factor in the output vocabulary, exactly as a model or hand-rules file writes it."""
+    return _TextPrinter().doprint(expr)
 
 
 def slot_to_sympy(slot: Slot) -> sympy.Expr:
@@ -231,14 +304,69 @@ def group_to_sympy(tensors: tuple, names: dict[tuple[int, str], str]) -> sympy.E
 
 
 def parse_factor(text: str, symbols: "dict[str, sympy.Symbol] | None" = None) -> sympy.Expr:
-    """Read a factor written by `str(vertex.factor)` back into sympy (our names only).
+    """Read a factor vertexsmith wrote (`factor_text`, `str(vertex.factor)`, JSON) back into sympy.
 
     `symbols` maps parameter names to the model's own symbols (which carry real=True), e.g.
     {p.name: p.symbol for p in model.parameters.values()}, so that the result compares equal.
+    Only for our own output: it goes through sympy's parser, never give it model text.
     """
-    from sympy.parsing.sympy_parser import parse_expr
+    from sympy.parsing.sympy_parser import convert_xor, parse_expr, standard_transformations
 
-    return parse_expr(text, local_dict={**NAMESPACE, **(symbols or {})}, evaluate=True)
+    transformations = (_bracket_calls,) + standard_transformations + (convert_xor,)
+    local = {**NAMESPACE, **(symbols or {})}
+    local.update({name: cls for name, cls in (("_vs_metric", Metric), ("_vs_gamma", Gamma), ("_vs_sigma", Sigma),
+                                               ("_vs_eps", LeviCivita), ("_vs_vector", FourVector),
+                                               ("_vs_f", StructureConstant), ("_vs_T", Generator),
+                                               ("_vs_delta", GroupDelta))})
+    return parse_expr(text, local_dict=local, transformations=transformations, evaluate=True)
+
+
+def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:
+    """Token pass: NAME[...] and (...)[...] of the output vocabulary become function calls.
+
+    g[a,b] -> metric, gamma/sigma/eps[...], f_G/T_G/delta_G[...] -> group tensor of G with G as
+    the first argument, any other NAME[i] or (expr)[i] -> the four-vector of that momentum.
+    """
+    # self-contained (the exported Python module carries a copy of its source for its symbolic())
+    from tokenize import NAME, OP, STRING
+
+    calls = {"g": "_vs_metric", "gamma": "_vs_gamma", "sigma": "_vs_sigma", "eps": "_vs_eps"}
+    group_calls = {"f": "_vs_f", "T": "_vs_T", "delta": "_vs_delta"}
+    out: list = []
+    for tok in tokens:
+        if tok[0] == OP and tok[1] == "[" and out:
+            head: list = []
+            if out[-1][0] == NAME:
+                name = out.pop()[1]
+                base, _, group = name.partition("_")
+                if name in calls:
+                    head = [(NAME, calls[name]), (OP, "(")]
+                elif group and base in group_calls:
+                    head = [(NAME, group_calls[base]), (OP, "("), (NAME, "Symbol"), (OP, "("),
+                            (STRING, repr(group)), (OP, ")"), (OP, ",")]
+                else:
+                    head = [(NAME, "_vs_vector"), (OP, "("), (NAME, name), (OP, ",")]
+            elif out[-1][0] == OP and out[-1][1] == ")":
+                depth, k = 0, len(out) - 1
+                while k >= 0:
+                    depth += {")": 1, "(": -1}.get(out[k][1], 0) if out[k][0] == OP else 0
+                    if depth == 0:
+                        break
+                    k -= 1
+                inner = out[k:]
+                del out[k:]
+                head = [(NAME, "_vs_vector"), (OP, "(")] + inner + [(OP, ",")]
+            out.extend(head)
+            out.append((OP, "[["))  # marks the bracket to close as a call
+            continue
+        if tok[0] == OP and tok[1] == "]":
+            opened = max((k for k, t in enumerate(out) if t == (OP, "[[")), default=None)
+            if opened is not None:
+                del out[opened]
+                out.append((OP, ")"))
+                continue
+        out.append(tok)
+    return out
 
 
 def to_latex(expr: sympy.Expr) -> str:

@@ -5,14 +5,16 @@ numbers and booleans, built in a fixed order (vertices and propagators as the ru
 parameters and fields as the model declares them). `render` writes it with sorted keys, two
 spaces of indentation and a trailing newline, so equal rules give byte-identical files.
 
-Each symbolic quantity appears twice: as a sympy string that `symbolic.parse_factor` reads back,
-and as LaTeX. Vertex factors are also split into coupling x group structure x Lorentz structure
-(each "1" when absent), the form amplitude code consumes.
+Each symbolic quantity appears twice: as text in the model language itself (the output
+vocabulary of `symbolic.py`: gamma[mu3], g[mu1,mu2], (p1 - p2)[mu3], PL, ...), which
+`symbolic.parse_factor` reads back and a hand-rules file accepts, and as LaTeX. Vertex factors
+are also split into coupling x group structure x Lorentz structure (each "1" when absent), the
+form amplitude code consumes.
 
     >>> import vertexsmith
     >>> rules = vertexsmith.load_model(vertexsmith.example("qed")).derive(gauge="feynman")
-    >>> rules_to_dict(rules)["vertices"][0]["factor"]["sympy"]
-    '(-I*e)*Gamma(mu3)'
+    >>> rules_to_dict(rules)["vertices"][0]["factor"]["text"]
+    '(-I*e)*gamma[mu3]'
 """
 
 from __future__ import annotations
@@ -24,13 +26,14 @@ from typing import TYPE_CHECKING, Any
 
 import sympy
 
-from ..symbolic import to_latex
+from ..symbolic import factor_text, to_latex
 
 if TYPE_CHECKING:
     from ..model import Field, GaugeGroup, Model, Parameter
     from ..rules import Leg, Propagator, Rules, Vertex
 
-FORMAT_VERSION = "1.0"
+# 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy")
+FORMAT_VERSION = "2.0"
 SCHEMA_RESOURCE = "rules.schema.json"
 
 GAUGE_TEXT = {
@@ -46,7 +49,7 @@ GENERATORS_TEXT = ("SU(N) generators T^a in the fundamental: generalised Gell-Ma
 
 
 def _symbolic(expr: sympy.Expr) -> dict[str, str]:
-    return {"sympy": str(expr), "latex": to_latex(expr)}
+    return {"text": factor_text(expr), "latex": to_latex(expr)}
 
 
 def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
@@ -91,7 +94,7 @@ def _parameter(p: "Parameter") -> dict[str, Any]:
         "roles": list(p.roles),
         "complex": p.is_complex,
         "value": _value(p.value),
-        "definition": None if p.definition is None else str(p.definition),
+        "definition": None if p.definition is None else factor_text(p.definition),
         "description": p.description,
     }
 
@@ -143,7 +146,7 @@ def _leg(leg: "Leg") -> dict[str, Any]:
 def _vertex(v: "Vertex") -> dict[str, Any]:
     return {
         "legs": [_leg(leg) for leg in v.legs],
-        "factor": {"sympy": str(v.factor), "latex": v.latex},
+        "factor": {"text": factor_text(v.factor), "latex": v.latex},
         "parts": [{"coupling": _symbolic(part.coupling), "lorentz": _symbolic(part.lorentz),
                    "group": _symbolic(getattr(part, "group", sympy.Integer(1)))} for part in v.parts],
         "origins": list(v.origins),
@@ -163,16 +166,16 @@ def _propagator(model: "Model", p: "Propagator") -> dict[str, Any]:
         "kind": p.kind,
         "momentum": p.momentum,
         "indices": list(p.indices),
-        "factor": {"sympy": str(p.factor), "latex": p.latex},
-        "a": str(p.a),
-        "b": str(p.b),
+        "factor": {"text": factor_text(p.factor), "latex": p.latex},
+        "a": factor_text(p.a),
+        "b": factor_text(p.b),
         "gauge": p.gauge,
         "gauge_parameter": _gauge_parameter(model, p),
     }
 
 
 def rules_to_dict(rules: "Rules") -> dict[str, Any]:
-    """The rules as plain data following `rules.schema.json` (format_version 1.0)."""
+    """The rules as plain data following `rules.schema.json` (format_version 2.0)."""
     from .. import __version__
 
     model = rules.model

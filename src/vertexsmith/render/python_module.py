@@ -16,6 +16,7 @@ The output is deterministic: the same rules give the same text, byte for byte.
 
 from __future__ import annotations
 
+import inspect
 import keyword
 import string
 import textwrap
@@ -28,7 +29,7 @@ from sympy.printing.numpy import NumPyPrinter
 from ..rules import P2, Propagator, Rules, Vertex
 from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDummy,
                           LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
-from ..symbolic import lorentz_to_sympy
+from ..symbolic import _bracket_calls, factor_text, group_to_sympy, lorentz_to_sympy
 
 __all__ = ["render_python_module", "render", "vertex_function_name", "propagator_function_name"]
 
@@ -270,7 +271,7 @@ def _vertex_function(vertex: Vertex, name: str, ranks: dict[str, int]) -> str:
     for leg in legs:
         what = "; ".join(_describe_axis(key, index, dims) for key, index in zip(leg.axes, leg.indices)) or "no axis"
         leg_lines.append(f"    leg {leg.position}: {leg.label} ({leg.meaning()}), momentum {leg.momentum}; {what}")
-    doc = [f"Vertex {' '.join(vertex.labels)}: {vertex.factor}", "",
+    doc = [f"Vertex {' '.join(vertex.labels)}: {factor_text(vertex.factor)}", "",
            "Legs in order (all momenta incoming, arrays of shape (..., 4)):", *leg_lines,
            f"Returns a complex array of shape {_axes_text(sizes)}."]
     if vertex.origins:
@@ -285,19 +286,13 @@ def _vertex_function(vertex: Vertex, name: str, ranks: dict[str, int]) -> str:
     for term in vertex.terms:
         call = _einsum_call(term.structure, axes, ranks, dims)
         lorentz = lorentz_to_sympy(term.structure, wrap)
-        group = " ".join(type(g).__name__ + "(" + ", ".join(_slot_text(x) for x in g.slots_) + ")"
-                         for g in term.structure.group)
-        body.append(f"    # {term.coefficient} * {lorentz}" + (f" * {group}" if group else ""))
+        group = group_to_sympy(term.structure.group, vertex._index_names())
+        body.append(f"    # {factor_text(term.coefficient)} * {factor_text(lorentz)}"
+                    + (f" * {factor_text(group)}" if group != 1 else ""))
         coefficient = _code(term.coefficient)
         body.append(f"    out += ({coefficient}) * {call}" if call else f"    out += {coefficient}")
     body.append("    return out")
     return "\n".join(body)
-
-
-def _slot_text(slot: Slot) -> str:
-    if isinstance(slot, LegGroupIndex):
-        return f"leg{slot.leg}"
-    return getattr(slot, "name", str(slot))
 
 
 def _propagator_function(prop: Propagator, name: str) -> str:
@@ -305,7 +300,7 @@ def _propagator_function(prop: Propagator, name: str) -> str:
     axes = {"dirac": "spinor axes s1, s2 (Dirac representation)", "vector": "Lorentz axes mu, nu (upper indices)"}
     what = [axes[prop.kind]] if prop.kind in axes else []
     what += [f"{g} axes (size {d}), a Kronecker delta" for g, _, d in prop.representations]
-    doc = [f"Propagator of {prop.field} ({prop.kind}): {prop.factor}", "",
+    doc = [f"Propagator of {prop.field} ({prop.kind}): {factor_text(prop.factor)}", "",
            "p: momentum along the particle arrow, array of shape (..., 4).",
            f"Returns a complex array of shape {_axes_text(sizes)}" + (": " + "; ".join(what) if what else "") + "."]
     body = [f"def {name}(p, params=None):",
@@ -587,20 +582,28 @@ def find_vertex(*labels):
 def symbolic(name):
     """The symbolic factor of a function (by name) as a sympy expression; needs sympy.
 
-    Lorentz objects become undefined sympy functions of the same names (Gamma, Slash, Sigma are
-    non-commuting; Chain(i, j, M) is the matrix M between bar(leg i) and leg j).
+    SYMBOLIC holds the factors in the model language (gamma[mu3], g[mu1,mu2], (p1 - p2)[mu3],
+    slash(p), PL, f_color[a1,a2,a3], chain(1, 2, M), ...). Here its objects become undefined
+    sympy functions of the same names (gamma, slash, sigma, chain non-commuting), a momentum
+    with an index becomes momentum(p, mu), and each group tensor takes its group first.
     """
     import sympy
-    from sympy.parsing.sympy_parser import parse_expr
+    from sympy.parsing.sympy_parser import convert_xor, parse_expr, standard_transformations
 
-    names = {n: sympy.Function(n) for n in ("Metric", "FourVector", "Dot", "LeviCivita", "Chain",
-                                             "StructureConstant", "Generator", "GroupDelta")}
-    names.update({n: sympy.Function(n, commutative=False) for n in ("Gamma", "Slash", "Sigma")})
-    names.update({n: sympy.Symbol(n, commutative=False) for n in ("Gamma5", "ProjL", "ProjR")})
-    names.update({n: sympy.Symbol(n) for n in (*PARAMETERS, *GROUPS)})
-    names.update({"I": sympy.I, "pi": sympy.pi})
-    return parse_expr(SYMBOLIC[name], local_dict=names)
-'''
+    names = {"_vs_" + key: sympy.Function(name) for key, name in (
+        ("metric", "g"), ("eps", "eps"), ("vector", "momentum"), ("f", "f"), ("T", "T"), ("delta", "delta"))}
+    names.update({"_vs_gamma": sympy.Function("gamma", commutative=False),
+                  "_vs_sigma": sympy.Function("sigma", commutative=False),
+                  "slash": sympy.Function("slash", commutative=False),
+                  "chain": sympy.Function("chain", commutative=False), "dot": sympy.Function("dot"),
+                  "conj": sympy.conjugate, "I": sympy.I, "pi": sympy.pi, "Symbol": sympy.Symbol})
+    names.update({n: sympy.Symbol(n, commutative=False) for n in ("gamma5", "PL", "PR")})
+    names.update({n: sympy.Symbol(n) for n in PARAMETER_NAMES})
+    transformations = (_bracket_calls,) + standard_transformations + (convert_xor,)
+    return parse_expr(SYMBOLIC[name], local_dict=names, transformations=transformations)
+
+
+{BRACKET_CALLS}'''
 
 
 def _module_docstring(rules: Rules, vertex_names: list[str], propagator_names: list[str]) -> str:
@@ -689,9 +692,9 @@ def render_python_module(rules: Rules) -> str:
     parts += ["", "", "# ------------------------------------------------------------------ tables", ""]
     parts.append("SYMBOLIC = {")
     for vertex, name in zip(rules.vertices, vertex_names):
-        parts.append(f"    {name!r}: {str(vertex.factor)!r},")
+        parts.append(f"    {name!r}: {factor_text(vertex.factor)!r},")
     for prop, name in zip(rules.propagators, propagator_names):
-        parts.append(f"    {name!r}: {str(prop.factor)!r},")
+        parts.append(f"    {name!r}: {factor_text(prop.factor)!r},")
     parts += ["}", "", "VERTICES = {"]
     for vertex, name in zip(rules.vertices, vertex_names):
         parts.append(f"    {vertex.labels!r}: {name},")
@@ -702,7 +705,7 @@ def render_python_module(rules: Rules) -> str:
     parts += ["}", "", "PROPAGATORS = {"]
     for prop, name in zip(rules.propagators, propagator_names):
         parts.append(f"    {prop.field!r}: {name},")
-    parts += ["}", "", "", _FIND.strip("\n"), ""]
+    parts += ["}", "", "", _FIND.replace("{BRACKET_CALLS}", inspect.getsource(_bracket_calls)).strip("\n"), ""]
     names = ["MODEL", "GAUGE", "GROUPS", "CONVENTIONS", "PARAMETERS", "FIELDS", "SYMBOLIC", "VERTICES", "VERTEX_LEGS",
              "PROPAGATORS", "find_vertex", "symbolic", *vertex_names, *propagator_names]
     parts += ["", "__all__ = ["]
