@@ -10,13 +10,13 @@ import pytest
 import sympy
 
 import vertexsmith as vs
+from vertexsmith._resources import shipped_models
 from vertexsmith.compare import compare_rules
 from vertexsmith.render import render
 from vertexsmith.render.python_module import render_python_module
 from vertexsmith.symbolic import factor_text, parse_factor
 
-SHIPPED = ["axion_like", "contact", "dark_sector", "dark_su2", "electroweak_unbroken", "phi4", "qcd", "qed",
-           "scalar_qed", "su2_yang_mills", "yukawa"]
+SHIPPED = [path.stem for path in shipped_models()]
 
 
 @pytest.mark.parametrize("name", SHIPPED)
