@@ -1,0 +1,39 @@
+"""Fermion flow: the charge-conjugation matrix and the reversal of a spinor chain.
+
+A chain bar(a) Gamma b read against its fermion flow is bar(b^c) Gamma' a^c with
+Gamma' = C Gamma^T C^-1 (Denner, Eck, Hahn & Kuebbeck, Nucl. Phys. B 387 (1992) 467, eqs. 2.4
+and 3.2, from memory). For the matrices of the model language (common practice, no source):
+
+    C gamma^mu^T C^-1 = -gamma^mu     C gamma5^T C^-1 = gamma5     C sigma^{mu nu T} C^-1 = -sigma^{mu nu}
+
+so PL and PR map to themselves, and a product reverses its order: (A1 ... An)' = An' ... A1'.
+C = i gamma^2 gamma^0 in the Dirac representation: C^T = -C, C^-1 = C^dagger = -C.
+"""
+
+from __future__ import annotations
+
+from typing import Sequence, TypeVar
+
+# the sign each Dirac matrix of the model language takes under C M^T C^-1
+REVERSAL_SIGN = {"gamma": -1, "sigma": -1, "gamma5": 1, "PL": 1, "PR": 1}
+
+Matrix = TypeVar("Matrix")
+
+
+def reversed_chain(kinds: Sequence[str], matrices: Sequence[Matrix]) -> tuple[int, tuple[Matrix, ...]]:
+    """(sign, matrices in reversed order) of C (M1 ... Mn)^T C^-1, given each matrix's kind word."""
+    sign = 1
+    for kind in kinds:
+        if kind not in REVERSAL_SIGN:
+            raise ValueError(f"no flow reversal is known for the Dirac matrix '{kind}'")
+        sign *= REVERSAL_SIGN[kind]
+    return sign, tuple(reversed(matrices))
+
+
+def charge_conjugation_matrix():  # noqa: ANN201 - a numpy array, imported lazily
+    """C = i gamma^2 gamma^0 in the Dirac representation (the layout of numeric.py)."""
+    from .numeric import GAMMA
+    return 1j * GAMMA[2] @ GAMMA[0]
+
+
+__all__ = ["REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]
