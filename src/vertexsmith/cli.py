@@ -10,6 +10,11 @@ No traceback reaches the user: our own errors print as ``file:line:col: error: .
 line and a caret; anything unexpected prints one line asking for a bug report (set
 VERTEXSMITH_TRACEBACK=1 to see the traceback instead). Every command is a subparser whose
 `func(args) -> int` does the work, so other modules can add commands (see `_build_parser`).
+
+The command line starts fast: building the parser imports only the standard library, `errors`,
+`render` (the format names) and the command modules of `PLUGIN_MODULES`, none of which may import
+sympy, numpy, lark or rich at module level; each command imports what it uses when it runs.
+`vertexsmith --help` and `vertexsmith models` never import sympy or numpy (a test holds this).
 """
 
 from __future__ import annotations
@@ -32,8 +37,9 @@ EXIT_OK = 0
 EXIT_MODEL = 1
 EXIT_USAGE = 2
 PROG = "vertexsmith"
-# modules that may contribute subcommands; each has add_command(subparsers)
-PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare")
+# modules that contribute subcommands; each has add_command(subparsers) and is cheap to import
+# (standard library and `errors` only at module level: the engine is imported when the command runs)
+PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare_command")
 
 
 # ------------------------------------------------------------------ helpers shared by the commands
@@ -187,16 +193,19 @@ def command_check(args: argparse.Namespace) -> int:
 def command_models(args: argparse.Namespace) -> int:
     """vertexsmith models: list the shipped example models with their descriptions."""
     from ._resources import shipped_models
-    from .pipeline import load_model
+    from .parse import parse_text
 
     paths = shipped_models()
     width = max((len(p.stem) for p in paths), default=0)
     lines = []
     for path in paths:
+        # the description is in the header line: parsing is enough, and needs neither sympy nor numpy
         try:
-            description = load_model(path).description
+            description = parse_text(path.read_text(encoding="utf-8"), str(path)).theory.description
         except VertexsmithError as err:
             description = f"(cannot be read: {err.message})"
+        except (OSError, UnicodeDecodeError) as exc:
+            description = f"(cannot be read: {exc})"
         lines.append(f"{path.stem:<{width}}  {description}".rstrip())
     emit("\n".join(lines) + ("\n" if lines else ""), sys.stdout)
     return EXIT_OK

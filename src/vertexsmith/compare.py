@@ -38,9 +38,7 @@ coefficient.
 
 from __future__ import annotations
 
-import argparse
 import string
-import sys
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
 from pathlib import Path
@@ -49,6 +47,7 @@ from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 import numpy as np
 import sympy
 
+from .compare_command import POINTS, SEED, add_command, run  # noqa: F401 - the command lives there, kept importable here
 from .errors import ModelMeaningError, Source, Span, UsageError, did_you_mean
 from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita, lower, slash
 from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAND_BYTES was defined here
@@ -63,7 +62,6 @@ from .syntax import (HandRule, HandRules, HCall, HDot, HIndexed, HName, HNode, H
 if TYPE_CHECKING:
     from .model import Model
 
-POINTS = 4  # random phase-space points per rule
 RTOL = 1e-8
 
 EQUAL, CONVENTION, DIFFERENT, UNKNOWN = "equal", "convention", "different", "not in model"
@@ -965,14 +963,14 @@ def _uses_chains(node: HNode) -> bool:
     return False
 
 
-def compare_rules(rules: Rules, hand: HandRules | str, points: int = POINTS, seed: int = 20261201) -> ComparisonReport:
+def compare_rules(rules: Rules, hand: HandRules | str, points: int = POINTS, seed: int = SEED) -> ComparisonReport:
     """Compare hand rules (parsed, or the text of a hand-rules file) with derived rules."""
     parsed = parse_hand_rules(hand) if isinstance(hand, str) else hand
     return _Checker(rules, parsed, points, seed).run()
 
 
 def compare_files(model: "str | Path | Model", hand_path: str | Path, gauge: str | None = None,
-                  points: int = POINTS, seed: int = 20261201) -> ComparisonReport:
+                  points: int = POINTS, seed: int = SEED) -> ComparisonReport:
     """Load a model (path or shipped name) and a hand-rules file, and compare them."""
     from .export import load_model_argument
     from .model import Model
@@ -1024,37 +1022,6 @@ def format_report(report: ComparisonReport) -> str:
     lines.append(f"summary: {c[EQUAL]} equal, {c[CONVENTION]} equal up to a convention, {c[DIFFERENT]} different, "
                  f"{c[UNKNOWN]} not in the model; {len(report.not_in_hand)} derived rules not in the hand file")
     return "\n".join(lines) + "\n"
-
-
-# ------------------------------------------------------------------ command line
-
-def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]") -> None:
-    """Register `vertexsmith compare` with the command-line parser."""
-    parser = subparsers.add_parser(
-        "compare", help="compare hand-derived rules with the derived ones",
-        description="Compare a file of hand-derived Feynman rules with the rules derived from a model, at "
-                    "random momenta and parameter values, and name the convention behind each difference. "
-                    "Exit 0 when every hand rule equals the derived one, 1 otherwise.")
-    parser.add_argument("model", metavar="MODEL", help="model file, or the name of a shipped model")
-    parser.add_argument("hand", metavar="HANDRULES", help="file of hand-derived rules (see grammar/handrules.lark)")
-    parser.add_argument("--gauge", choices=("xi", "feynman", "unitary"), default=None,
-                        help="gauge of the hand propagators (default: the file's 'gauge' line, else feynman)")
-    parser.add_argument("--all", dest="require_all", action="store_true",
-                        help="also fail when a vertex of the model is missing from the hand file")
-    parser.add_argument("--points", type=int, default=POINTS, help=f"random points per rule (default {POINTS})")
-    parser.add_argument("--seed", type=int, default=20261201, help="seed of the random points")
-    parser.set_defaults(func=run)
-
-
-def run(args: argparse.Namespace) -> int:
-    """Run `vertexsmith compare`: 0 all equal, 1 differences; errors go up to the command line (exit 1 or 2)."""
-    from .cli import emit
-
-    if args.points < 1:
-        raise UsageError("--points must be at least 1")
-    report = compare_files(args.model, args.hand, args.gauge, args.points, args.seed)
-    emit(format_report(report), sys.stdout)
-    return report.exit_code(args.require_all)
 
 
 __all__ = ["parse_hand_rules", "read_hand_rules", "compare_rules", "compare_files", "format_report",

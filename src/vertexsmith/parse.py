@@ -12,12 +12,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import lru_cache
-from typing import Any, Callable, Iterator, Mapping
+from typing import IO, Any, Callable, Iterator, Mapping
 
+import lark
 from lark import Lark, Token, Transformer, v_args
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken, VisitError
 
 from . import syntax as sx
+from ._cache import cached_build
 from ._resources import grammar_text
 from .errors import ModelMeaningError, ModelSyntaxError, Source, Span, VertexsmithError
 
@@ -58,8 +60,22 @@ class _LineJoiner:
 
 @lru_cache(maxsize=2)
 def _parser(language: _Language) -> Lark:
-    return Lark(grammar_text(language.grammar), parser="lalr", postlex=_LineJoiner(language.continuing),
-                propagate_positions=True, maybe_placeholders=False)
+    """The language's parser, built once per process and kept on disk between runs (see `_cache.py`)."""
+    grammar = grammar_text(language.grammar)
+    options: dict[str, Any] = {"parser": "lalr", "propagate_positions": True, "maybe_placeholders": False}
+
+    def build() -> Lark:
+        return Lark(grammar, postlex=_LineJoiner(language.continuing), **options)
+
+    def save(parser: Lark, stream: IO[bytes]) -> None:
+        parser.save(stream, {"postlex"})
+
+    def load(stream: IO[bytes]) -> Lark:
+        # lark's own loader, as its cache= option uses it: the one that takes the post-lexer again
+        return Lark.__new__(Lark)._load(stream, postlex=_LineJoiner(language.continuing))
+
+    key = "\0".join([grammar, repr(sorted(options.items())), lark.__version__])
+    return cached_build(f"parser-{language.grammar.removesuffix('.lark')}", key, build, save, load)
 
 
 def _span(meta: Any) -> Span:
