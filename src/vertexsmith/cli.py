@@ -199,9 +199,9 @@ def command_models(args: argparse.Namespace) -> int:
     width = max((len(p.stem) for p in paths), default=0)
     lines = []
     for path in paths:
-        # the description is in the header line: parsing is enough, and needs neither sympy nor numpy
+        # the description is in the header line: parsing that line is enough, and fast
         try:
-            description = parse_text(path.read_text(encoding="utf-8"), str(path)).theory.description
+            description = parse_text(_header_lines(path.read_text(encoding="utf-8")), str(path)).theory.description
         except VertexsmithError as err:
             description = f"(cannot be read: {err.message})"
         except (OSError, UnicodeDecodeError) as exc:
@@ -209,6 +209,15 @@ def command_models(args: argparse.Namespace) -> int:
         lines.append(f"{path.stem:<{width}}  {description}".rstrip())
     emit("\n".join(lines) + ("\n" if lines else ""), sys.stdout)
     return EXIT_OK
+
+
+def _header_lines(text: str) -> str:
+    """The opening comments and the header line of a model file (`theory NAME "description"`)."""
+    lines = text.splitlines(keepends=True)
+    for k, line in enumerate(lines):
+        if line.strip() and not line.lstrip().startswith("#"):
+            return "".join(lines[:k + 1])
+    return text
 
 
 # ------------------------------------------------------------------ the parser
