@@ -16,7 +16,7 @@ import sympy
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Source, Span, did_you_mean
-from .groups import representation_name
+from .groups import MAX_ALTERNATING_RANK, representation_name
 from .parse import MAX_NUMBER_DIGITS
 from .values import resolve_values_from
 
@@ -24,7 +24,7 @@ from .values import resolve_values_from
 _DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
 _TENSORS = {"g": 2, "eps": 4}
 _DERIVATIVES = {"d": False, "D": True}
-_GROUP_TENSORS = {"T": (1, 3), "f": (3,), "delta": (2,)}
+_GROUP_TENSORS = {"T": (1, 3), "f": (3,), "delta": (2,), "alt": ()}  # alt takes N indices, N of SU(N)
 _CONSTANTS = {"I": sympy.I, "pi": sympy.pi}
 _ALIASES = {"γ": "gamma", "γ5": "gamma5", "γ⁵": "gamma5", "σ": "sigma", "ε": "eps", "π": "pi",
             "∂": "d", "i": "I", "η": "g"}
@@ -494,6 +494,12 @@ class _Builder:
             return m.LDirac(builtin, idx, node.span)
         if builtin in _TENSORS:
             n = _TENSORS[builtin]
+            if builtin == "eps" and len(idx) != n:
+                alternative = self._alternating_hint(node.name, len(idx))
+                if alternative:
+                    raise ModelMeaningError(f"'{name}' is the Lorentz epsilon and takes 4 Lorentz indices, "
+                                            f"not {len(idx)}", node.indices[0].span if idx else node.span,
+                                            alternative)
             self._check_index_count(node, n, f"'{name}'", "g[mu,nu]" if n == 2 else "eps[mu,nu,rho,sigma]")
             if len(set(idx)) != len(idx):
                 if builtin == "eps":
@@ -505,10 +511,31 @@ class _Builder:
         if name in self.parameters:
             raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
                                     f"write {name} without brackets")
+        alternative = self._alternating_hint(name, len(idx))
+        if alternative:
+            raise ModelMeaningError(f"unknown name '{name}'", node.span, alternative)
+        non_abelian = sorted(g.name for g in self.syntax.gauges if g.group == "SU")
+        group_tensors = [f"{base}_{g}" for base in _GROUP_TENSORS for g in non_abelian] if len(non_abelian) > 1 \
+            else list(_GROUP_TENSORS) if non_abelian else []
         candidates = list(self.fields) + list(self.parameters) + list(self.definitions) + \
-            list(self.strengths) + list(_DIRAC) + list(_TENSORS) + list(_DERIVATIVES) + list(_GROUP_TENSORS)
+            list(self.strengths) + list(_DIRAC) + list(_TENSORS) + list(_DERIVATIVES) + group_tensors
         raise ModelMeaningError(f"unknown name '{name}'", node.span,
                                 did_you_mean(name, candidates, "declare it as a field or a parameter"))
+
+    def _alternating_hint(self, name: str, count: int) -> str:
+        """For an epsilon-like name with group indices: how to write the alternating tensor of the model's groups."""
+        base, _, suffix = _ALIASES.get(name, name).partition("_")
+        if base.lower() not in ("eps", "epsilon", "levi", "civita", "leviciv", "lc", "ε"):
+            return ""
+        ranks = {g.name: int(g.rank) for g in self.syntax.gauges if g.group == "SU" and g.rank.isdigit()}
+        matching = [g for g, n in sorted(ranks.items()) if g == suffix or (not suffix and n == count)]
+        if not matching:
+            return ""
+        group = matching[0]
+        written = "alt" if len(ranks) == 1 else f"alt_{group}"
+        example = ",".join("ijklmn"[:ranks[group]])
+        return (f"the invariant alternating tensor of SU({ranks[group]}) group '{group}' is written "
+                f"{written}[{example}] (eps is the Lorentz epsilon)")
 
     def _group_tensor(self, node: sx.Symbol) -> m.LGroup | None:
         """T[a], T[a,i,j], f[a,b,c], delta[i,j]; with several non-abelian groups T_color[a] etc."""
@@ -529,6 +556,8 @@ class _Builder:
         else:
             raise ModelMeaningError(f"'{base}' is ambiguous with several non-abelian groups", node.span,
                                     f"name the group: {base}_{non_abelian[0]}[...]")
+        if base == "alt":
+            return self._alternating(node, group)
         counts = _GROUP_TENSORS[base]
         if len(node.indices) not in counts:
             examples = {"T": "T[a] (a matrix between fields) or T[a,i,j]", "f": "f[a,b,c]", "delta": "delta[i,j]"}
@@ -536,6 +565,24 @@ class _Builder:
             raise ModelMeaningError(f"'{node.name}' takes {' or '.join(map(str, counts))} indices, "
                                     f"not {len(node.indices)}", span, f"write {examples[base]}")
         return m.LGroup(base, group, tuple(i.name for i in node.indices), node.span)
+
+    def _alternating(self, node: sx.Symbol, group: str) -> m.LGroup:
+        """alt[i,j] of SU(2), alt[i,j,k] of SU(3): the invariant alternating tensor, N fundamental indices."""
+        n = int(self.groups_syntax[group].rank) if self.groups_syntax[group].rank.isdigit() else 0
+        if n > MAX_ALTERNATING_RANK:
+            raise ModelMeaningError(f"the alternating tensor of SU({n}) is too large to use here", node.span,
+                                    f"alt is available for SU(N) with N up to {MAX_ALTERNATING_RANK}")
+        names = [i.name for i in node.indices]
+        example = ",".join("ijklmn"[:n])
+        if len(names) != n:
+            span = node.indices[0].span if node.indices else node.span
+            raise ModelMeaningError(f"'{node.name}' of SU({n}) group '{group}' takes {n} fundamental indices, "
+                                    f"not {len(names)}", span, f"write {node.name}[{example}]")
+        repeated = next((i for i in node.indices if names.count(i.name) > 1), None)
+        if repeated is not None:
+            raise ModelMeaningError(f"'{node.name}' with the repeated index '{repeated.name}' is zero", repeated.span,
+                                    f"give each index its own name: {node.name}[{example}]")
+        return m.LGroup("alt", group, tuple(names), node.span)
 
     def _call(self, node: sx.Call) -> m.LNode:
         arg = node.argument

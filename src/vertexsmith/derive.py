@@ -22,7 +22,8 @@ from .errors import DerivationError, UsageError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom
 from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
+                         GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
                          Vector, canonical_structure, momentum_slots, permutation_sign, replace_slot,
                          structure_sort_key)
@@ -155,6 +156,7 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
     # an end of an index line: ("leg", leg) / ("mom", leg) / ("slot", atom position, slot number)
     ends: dict[str, list[tuple]] = defaultdict(list)
     uf = _UnionFind()
+    delta_groups: dict[str, str] = {}
     for k, atom in enumerate(mono.atoms):
         if isinstance(atom, FieldAtom):
             leg = mapping[k]
@@ -178,8 +180,10 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
                 raise DerivationError("delta with a repeated index is the dimension of the group space", atom.span,
                                       "write the dimension as a number")
             uf.union(a, b)
+            delta_groups[a] = atom.group
         elif isinstance(atom, GroupAtom):
-            spaces = ("adjoint", "fundamental", "fundamental") if atom.kind == "T" else ("adjoint",) * 3
+            spaces = {"T": ("adjoint", "fundamental", "fundamental"), "f": ("adjoint",) * 3}.get(
+                atom.kind, ("fundamental",) * len(atom.indices))  # alt: one fundamental slot per index
             for n, index in enumerate(atom.indices):
                 ends[index].append(("gslot", k, n, atom.group, spaces[n]))
         else:
@@ -188,8 +192,10 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
     lines: dict[str, list[tuple]] = defaultdict(list)
     for index, items in ends.items():
         lines[uf.find(index)].extend(items)
-    for _ in {uf.find(name) for name in uf.parent} - set(lines):
-        factor *= 4  # a closed loop of metrics, g[a,b] g[b,a]: g^mu_mu = 4
+    for root in sorted({uf.find(name) for name in uf.parent} - set(lines)):
+        # a closed loop of metrics, g[a,b] g[b,a], is g^mu_mu = 4; one of group deltas is the trace N
+        group = next((g for name, g in sorted(delta_groups.items()) if uf.find(name) == root), None)
+        factor *= model.groups[group].rank if group is not None else 4
     fill: dict[tuple[int, int], Slot] = {}
     tensors: list = []
     group_tensors: list = []
@@ -239,6 +245,9 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
                 group_tensors.append(Generator(atom.group, (fill[(k, 0)], fill[(k, 1)], fill[(k, 2)])))
             elif atom.kind == "f":
                 group_tensors.append(StructureConstant(atom.group, (fill[(k, 0)], fill[(k, 1)], fill[(k, 2)])))
+            elif atom.kind == "alt":
+                group_tensors.append(GroupAlternating(atom.group, tuple(fill[(k, n)]
+                                                                         for n in range(len(atom.indices)))))
         elif isinstance(atom, TensorAtom):
             if atom.kind == "eps":
                 tensors.append(Epsilon((fill[(k, 0)], fill[(k, 1)], fill[(k, 2)], fill[(k, 3)])))

@@ -56,6 +56,23 @@ def su_structure_constants(n: int) -> np.ndarray:
     return np.real_if_close(f).real.copy()
 
 
+# the alternating tensor of SU(n) has n^n entries and contracts into up to n! terms: keep n small
+MAX_ALTERNATING_RANK = 6
+
+
+@lru_cache(maxsize=None)
+def su_alternating(n: int) -> np.ndarray:
+    """The invariant alternating tensor of SU(n), epsilon_{i1...in} with epsilon_{12...n} = +1, shape (n,)*n."""
+    import itertools
+
+    import numpy as np
+    eps = np.zeros((n,) * n, dtype=complex)
+    for perm in itertools.permutations(range(n)):
+        inversions = sum(1 for a in range(n) for b in range(a + 1, n) if perm[a] > perm[b])
+        eps[perm] = -1.0 if inversions % 2 else 1.0
+    return eps
+
+
 def dimension(n: int, representation: str) -> int:
     """Dimension of a representation of SU(n)."""
     return n * n - 1 if representation == "adjoint" else n

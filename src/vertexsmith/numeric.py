@@ -13,8 +13,8 @@ from typing import Callable, Sequence
 
 import numpy as np
 
-from .groups import su_generators, su_structure_constants
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDummy,
+from .groups import su_alternating, su_generators, su_structure_constants
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
 
 METRIC = np.diag([1.0, -1.0, -1.0, -1.0]).astype(complex)
@@ -151,6 +151,8 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta:
             operands.append(su_structure_constants(n).astype(complex))
         elif isinstance(g, Generator):
             operands.append(su_generators(n))
+        elif isinstance(g, GroupAlternating):
+            operands.append(su_alternating(n))
         else:
             first = g.slots_[0]
             dim = leg_dims.get((first.leg, first.group), n) if isinstance(first, LegGroupIndex) else n

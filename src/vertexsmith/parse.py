@@ -9,6 +9,8 @@ goes on. Lark's errors are translated here into `ModelSyntaxError` with a positi
 
 from __future__ import annotations
 
+import difflib
+import re
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import lru_cache
@@ -282,6 +284,10 @@ class _ToSyntax(_Operators):
         return sx.GaugeDecl(name, group, rank, attrs.get("boson"), attrs.get("strength"),
                             attrs.get("coupling"), attrs.get("fixing"), _span(meta), tuple(spans))
 
+    def global_decl(self, meta: Any, children: list[Any]) -> sx.GlobalDecl:
+        return sx.GlobalDecl(str(children[0]), str(children[1]), str(children[2]), _span(meta),
+                             _token_span(children[1]))
+
     def definition(self, meta: Any, children: list[Any]) -> sx.Definition:
         indices = children[1] if len(children) == 3 else ()
         return sx.Definition(str(children[0]), tuple(indices), children[-1], _span(meta))
@@ -314,13 +320,18 @@ class _ToSyntax(_Operators):
     def conventions_section(self, meta: Any, children: list[Any]) -> tuple[str, list[Any]]:
         return ("conventions", children)
 
+    def global_section(self, meta: Any, children: list[Any]) -> tuple[str, list[Any]]:
+        return ("globals_", children)
+
     def start(self, meta: Any, children: list[Any]) -> sx.ModelFile:
         parts: dict[str, list[Any]] = {k: [] for k in
-                                       ("parameters", "fields", "gauges", "definitions", "terms", "conventions")}
+                                       ("parameters", "fields", "gauges", "definitions", "terms", "conventions",
+                                        "globals_")}
         for key, items in children[1:]:
             parts[key].extend(items)
         return sx.ModelFile(children[0], *(tuple(parts[k]) for k in
-                                           ("parameters", "fields", "gauges", "definitions", "terms", "conventions")))
+                                           ("parameters", "fields", "gauges", "definitions", "terms", "conventions",
+                                            "globals_")))
 
 
 @v_args(meta=True)
@@ -388,7 +399,11 @@ _HAND_EXPECTED_WORDS = {
     "GAUGE": "'gauge'", "$END": "the end of the file",
 }
 
-_SECTION_WORDS = ("parameters", "fields", "gauge", "define", "lagrangian", "conventions")
+_SECTION_WORDS = ("parameters", "fields", "gauge", "define", "lagrangian", "conventions", "global")
+# the words a declaration line may start or go on with: a near miss of one of them is named in the hint
+_MODEL_KEYWORDS = _SECTION_WORDS + ("theory", "mass", "coupling", "angle", "width", "parameter", "real", "complex",
+                                    "scalar", "dirac", "majorana", "vector", "charge", "boson", "strength",
+                                    "fixing")
 _NAMES_HINT = "names are letters, digits and underscores; write products with a space or '*'"
 
 
@@ -433,13 +448,37 @@ class _Language:
     too_deep: str
     too_deep_hint: str = ""
     points_at_open_bracket: bool = False  # "the file ends too early" becomes "this bracket is never closed"
+    keywords: tuple[str, ...] = ()  # words whose misspellings are pointed out
 
 
 _MODEL = _Language("model.lark", _CONTINUING, _ToSyntax, "the model", _EXPECTED_WORDS, _model_character_hint,
                    _model_token_hint, "the model nests brackets too deeply", "flatten the expression",
-                   points_at_open_bracket=True)
+                   points_at_open_bracket=True, keywords=_MODEL_KEYWORDS)
 _HAND_RULES = _Language("handrules.lark", _HAND_CONTINUING, _ToHandRules, "the hand rules", _HAND_EXPECTED_WORDS,
                         lambda char: _NAMES_HINT, _hand_token_hint, "the hand rules nest brackets too deeply")
+
+
+def _misspelled_keyword(text: str, line: int, column: int, keywords: tuple[str, ...]) -> ModelSyntaxError | None:
+    """A syntax error caused by a misspelt keyword (`couplng y = 0.1`), pointed at the word itself.
+
+    The word the parser stopped at, or the word just before it, is a near miss of a keyword of
+    the language (and no declared-looking name of its own): the user meant the keyword.
+    """
+    lines = text.splitlines()
+    if not keywords or not 0 < line <= len(lines):
+        return None
+    words = [(w.group(), w.start() + 1) for w in re.finditer(r"[^\W\d][\w']*", lines[line - 1])]
+    at = next((k for k, (_, start) in enumerate(words) if start == column), None)
+    candidates = [k for k in (at, at - 1 if at else None) if k is not None and k >= 0]
+    for k in candidates:
+        word, start = words[k]
+        if word in keywords:
+            continue
+        close = difflib.get_close_matches(word, keywords, n=1, cutoff=0.75)
+        if close:
+            return ModelSyntaxError(f"unknown word '{word}'", Span(line, start, line, start + len(word) - 1),
+                                    f"did you mean '{close[0]}'?")
+    return None
 
 
 def _ends_early(text: str, hint: str) -> ModelSyntaxError:
@@ -464,6 +503,9 @@ def _syntax_error(exc: UnexpectedInput, text: str, language: _Language) -> Model
         if token.type == "_NL":
             line, column = token.line or line, token.column or column
         at = Span.point(line, column)
+        misspelled = _misspelled_keyword(text, line, column, language.keywords)
+        if misspelled is not None:
+            return misspelled
         return ModelSyntaxError(f"unexpected {shown}", at, language.token_hint(exc, at, expected))
     if isinstance(exc, UnexpectedEOF):
         return _ends_early(text, "close every bracket and finish the last line")

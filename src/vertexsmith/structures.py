@@ -162,7 +162,22 @@ class GroupDelta:
         return self.slots_
 
 
-GroupTensor = Union[StructureConstant, Generator, GroupDelta]
+@dataclass(frozen=True)
+class GroupAlternating:
+    """The invariant alternating tensor epsilon_{i1...iN} of SU(N), one slot per fundamental index.
+
+    Numerically the same array whether its slots contract upper or lower indices; which of the
+    two a term means is fixed by what the slots are contracted with (see `invariance`).
+    """
+
+    group: str
+    slots_: tuple[Slot, ...]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return self.slots_
+
+
+GroupTensor = Union[StructureConstant, Generator, GroupDelta, GroupAlternating]
 
 
 # ------------------------------------------------------------------ Dirac matrices and chains
@@ -252,6 +267,8 @@ def _map_group_tensor(g: GroupTensor, f: Callable[[Slot], Slot]) -> GroupTensor:
     if isinstance(g, GroupDelta):
         a, b = g.slots_
         return GroupDelta(g.group, (f(a), f(b)))
+    if isinstance(g, GroupAlternating):
+        return GroupAlternating(g.group, tuple(f(x) for x in g.slots_))
     a, b, c = g.slots_
     return type(g)(g.group, (f(a), f(b), f(c)))
 
@@ -377,11 +394,17 @@ def _canonical_group_tensor(t: GroupTensor) -> tuple[int, GroupTensor | None]:
     if isinstance(t, GroupDelta):
         i, j = sorted(t.slots_, key=slot_key)
         return 1, GroupDelta(t.group, (i, j))
+    if isinstance(t, GroupAlternating):
+        # totally antisymmetric: sorted slots with the sign of the permutation, zero on a repeat
+        keys = [slot_key(x) for x in t.slots_]
+        if len(set(keys)) < len(keys):
+            return 0, None
+        return permutation_sign(keys), GroupAlternating(t.group, tuple(sorted(t.slots_, key=slot_key)))
     return 1, t
 
 
 def _group_key(t: GroupTensor) -> tuple:
-    kind = {StructureConstant: 0, Generator: 1, GroupDelta: 2}[type(t)]
+    kind = {StructureConstant: 0, Generator: 1, GroupDelta: 2, GroupAlternating: 3}[type(t)]
     return (t.group, kind, tuple(slot_key(s) for s in t.slots_))
 
 
@@ -502,6 +525,6 @@ def legs_in(slots: Iterable[Slot]) -> set[int]:
 
 
 __all__ = ["permutation_sign", "LegIndex", "Momentum", "Dummy", "LegGroupIndex", "GroupDummy", "StructureConstant", "Generator",
-           "GroupDelta", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
+           "GroupDelta", "GroupAlternating", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
            "Sigma", "Chiral", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
            "momentum_slots", "replace_slot", "relabel_legs", "replace"]

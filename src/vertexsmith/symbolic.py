@@ -7,7 +7,7 @@ schema), so that a factor can be pasted back into a model or a hand-rules file:
 
     g[mu1,mu2]  p1[mu3]  (p1 - p2)[mu3]  dot(p1, p2)  eps[mu1,mu2,p1,p2]
     gamma[mu3]  slash(p1)  sigma[mu1,mu2]  gamma5  PL  PR  chain(1, 2, M)
-    f_color[a1,a2,a3]  T_color[a3,i1,i2]  delta_color[i1,i2]
+    f_color[a1,a2,a3]  T_color[a3,i1,i2]  delta_color[i1,i2]  alt_weak[i1,i2]
 
 `str()` of a factor uses these names with sympy's `**` and `conjugate`; `factor_text()` gives
 the model language exactly (`^`, `conj`). `parse_factor(text)` reads either form back.
@@ -22,7 +22,8 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 from .structures import (Chain as ChainStruct, Chiral, Dot as DotStruct, Dummy, Epsilon, Gamma as GammaStruct,
-                         Generator as GeneratorStruct, GroupDelta as GroupDeltaStruct, GroupDummy, LegGroupIndex,
+                         Generator as GeneratorStruct, GroupAlternating as GroupAlternatingStruct,
+                         GroupDelta as GroupDeltaStruct, GroupDummy, LegGroupIndex,
                          LegIndex, Metric as MetricStruct, Momentum, Sigma as SigmaStruct, Slot, Structure,
                          StructureConstant as StructureConstantStruct, Vector)
 
@@ -220,6 +221,17 @@ class GroupDelta(sympy.Function):
         return f"\\delta_{{{i} {j}}}"
 
 
+class GroupAlternating(sympy.Function):
+    """epsilon_{i1...iN}, the invariant alternating tensor of the SU(N) group named by the first argument;
+    text alt_weak[i1,i3]."""
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed(f"alt_{self.args[0]}", self.args[1:], printer))
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        return "\\varepsilon_{" + " ".join(_latex_group_index(x, printer) for x in self.args[1:]) + "}"
+
+
 Gamma5 = sympy.Symbol("gamma5", commutative=False)
 ProjL = sympy.Symbol("PL", commutative=False)
 ProjR = sympy.Symbol("PR", commutative=False)
@@ -298,7 +310,7 @@ def group_to_sympy(tensors: tuple, names: dict[tuple[int, str], str]) -> sympy.E
     for t in tensors:
         group = sympy.Symbol(t.group)
         cls = {StructureConstantStruct: StructureConstant, GeneratorStruct: Generator,
-               GroupDeltaStruct: GroupDelta}[type(t)]
+               GroupDeltaStruct: GroupDelta, GroupAlternatingStruct: GroupAlternating}[type(t)]
         factors.append(cls(group, *[slot(x) for x in t.slots_]))
     return sympy.Mul(*factors) if factors else sympy.Integer(1)
 
@@ -317,7 +329,7 @@ def parse_factor(text: str, symbols: "dict[str, sympy.Symbol] | None" = None) ->
     local.update({name: cls for name, cls in (("_vs_metric", Metric), ("_vs_gamma", Gamma), ("_vs_sigma", Sigma),
                                                ("_vs_eps", LeviCivita), ("_vs_vector", FourVector),
                                                ("_vs_f", StructureConstant), ("_vs_T", Generator),
-                                               ("_vs_delta", GroupDelta))})
+                                               ("_vs_delta", GroupDelta), ("_vs_alt", GroupAlternating))})
     return parse_expr(text, local_dict=local, transformations=transformations, evaluate=True)
 
 
@@ -331,7 +343,7 @@ def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:
     from tokenize import NAME, OP, STRING
 
     calls = {"g": "_vs_metric", "gamma": "_vs_gamma", "sigma": "_vs_sigma", "eps": "_vs_eps"}
-    group_calls = {"f": "_vs_f", "T": "_vs_T", "delta": "_vs_delta"}
+    group_calls = {"f": "_vs_f", "T": "_vs_T", "delta": "_vs_delta", "alt": "_vs_alt"}
     out: list = []
     for tok in tokens:
         if tok[0] == OP and tok[1] == "[" and out:

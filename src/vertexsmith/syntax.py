@@ -157,6 +157,17 @@ class GaugeDecl:
 
 
 @dataclass(frozen=True)
+class GlobalDecl:
+    """A global symmetry: `lepton U(1)` or `darkpar Z(2)`; kind is U or Z, order the number in brackets."""
+
+    name: str
+    kind: str
+    order: str
+    span: Span = field(compare=False)
+    kind_span: Span = field(compare=False, default=Span(0, 0, 0, 0))
+
+
+@dataclass(frozen=True)
 class Definition:
     name: str
     indices: tuple[Index, ...]
@@ -188,6 +199,7 @@ class ModelFile:
     definitions: tuple[Definition, ...]
     terms: tuple[LagrangianTerm, ...]
     conventions: tuple[Convention, ...]
+    globals_: tuple[GlobalDecl, ...] = ()
 
 
 # ------------------------------------------------------------------ hand-derived rules

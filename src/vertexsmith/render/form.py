@@ -27,7 +27,8 @@ import sympy
 
 from . import top_level_cuts
 from ..rules import P2, Propagator, Rules, Vertex
-from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDelta, GroupDummy,
+from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
+                          GroupDummy,
                           LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
                           Vector)
 
@@ -221,7 +222,7 @@ class _Structure:
         for chain in structure.chains:
             factors.append(self.chain(chain))
         for g in structure.group:
-            kind = {StructureConstant: "f", Generator: "T", GroupDelta: "d"}[type(g)]
+            kind = {StructureConstant: "f", Generator: "T", GroupDelta: "d", GroupAlternating: "alt"}[type(g)]
             name = self.group_functions[f"{kind}:{g.group}"]
             factors.append(f"{name}(" + ",".join(self.slot(s) for s in g.slots_) + ")")
         return "*".join(factors) if factors else "1"
@@ -372,7 +373,7 @@ def render_form(rules: Rules) -> str:
     printer = _Printer(names)
     group_functions: dict[str, str] = {}
     for group in model.groups.values():
-        for kind in ("f", "T", "d"):
+        for kind in ("f", "T", "d", "alt"):
             group_functions[f"{kind}:{group.name}"] = names.of(f"{kind}{group.name}")
     declared: dict[str, set[str]] = {"vectors": {"p"}, "indices": {"mu", "nu"}, "lines": set()}
     statements = [_vertex_statement(v, names, printer, group_functions, declared) for v in rules.vertices]

@@ -27,7 +27,7 @@ import sympy
 from sympy.printing.numpy import NumPyPrinter
 
 from ..rules import P2, Propagator, Rules, Vertex
-from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDummy,
+from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
                           LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
 from ..symbolic import _bracket_calls, factor_text, group_to_sympy, lorentz_to_sympy
 
@@ -199,6 +199,8 @@ def _einsum_call(structure: Structure, leg_axes: Sequence[tuple], ranks: dict[st
             e.add(f"_F[{g.group!r}]", labels, False)
         elif isinstance(g, Generator):
             e.add(f"_T[{g.group!r}]", labels, False)
+        elif isinstance(g, GroupAlternating):
+            e.add(f"_ALT[{g.group!r}]", labels, False)
         else:
             first = g.slots_[0]
             n = ranks[g.group]
@@ -491,7 +493,17 @@ def _su_structure_constants(n):
     return (-2j * np.einsum("abik,cki->abc", commutator, t)).real.astype(complex)
 
 
+def _su_alternating(n):
+    """epsilon_{i1...in} of SU(n), epsilon_{12...n} = +1."""
+    eps = np.zeros((n,) * n, dtype=complex)
+    for perm in itertools.permutations(range(n)):
+        inversions = sum(1 for a in range(n) for b in range(a + 1, n) if perm[a] > perm[b])
+        eps[perm] = -1.0 if inversions % 2 else 1.0
+    return eps
+
+
 _T = {name: _su_generators(n) for name, n in GROUPS.items() if n > 1}
+_ALT = {name: _su_alternating(n) for name, n in GROUPS.items() if 1 < n <= 6}
 _F = {name: _su_structure_constants(n) for name, n in GROUPS.items() if n > 1}
 
 
@@ -591,7 +603,8 @@ def symbolic(name):
     from sympy.parsing.sympy_parser import convert_xor, parse_expr, standard_transformations
 
     names = {"_vs_" + key: sympy.Function(name) for key, name in (
-        ("metric", "g"), ("eps", "eps"), ("vector", "momentum"), ("f", "f"), ("T", "T"), ("delta", "delta"))}
+        ("metric", "g"), ("eps", "eps"), ("vector", "momentum"), ("f", "f"), ("T", "T"), ("delta", "delta"),
+        ("alt", "alt"))}
     names.update({"_vs_gamma": sympy.Function("gamma", commutative=False),
                   "_vs_sigma": sympy.Function("sigma", commutative=False),
                   "slash": sympy.Function("slash", commutative=False),

@@ -255,6 +255,11 @@ class UnicodePrinter(StrPrinter):
         delta, (i, j) = self._group_object("δ", expr)
         return f"{delta}_{i}{j}"
 
+    def _print_GroupAlternating(self, expr: Any) -> str:
+        # ϵ (lunate) for the group tensor, so it never reads as the Lorentz ε^{...}
+        alt, indices = self._group_object("ϵ", expr)
+        return f"{alt}_{''.join(indices)}"
+
     def _print_Chain(self, expr: Any) -> str:
         bar_leg, leg, matrix = expr.args
         legs = (subscript(f"{bar_leg}{leg}") if int(bar_leg) < 10 and int(leg) < 10
