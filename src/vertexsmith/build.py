@@ -59,6 +59,7 @@ class _Builder:
         self.strengths: dict[str, str] = {}
         self.groups_syntax = {g.name: g for g in syntax.gauges}
         self.declared: dict[str, tuple[str, Span]] = {}
+        self.symmetries: dict[str, m.GlobalSymmetry] = {}
 
     # ------------------------------------------------------------------ declarations
     def _declare(self, name: str, what: str, span: Span) -> None:
@@ -82,6 +83,8 @@ class _Builder:
             self._declare(p.name, "parameter", p.span)
         for g in self.syntax.gauges:
             self._declare(g.name, "gauge group", g.span)
+        for s in self.syntax.globals_:
+            self._declare(s.name, "global symmetry", s.span)
         for f in self.syntax.fields:
             self._declare(f.name, "field", f.span)
         for g in self.syntax.gauges:
@@ -91,6 +94,7 @@ class _Builder:
         for d in self.syntax.definitions:
             self._declare(d.name, "definition", d.span)
         self._build_parameters()
+        self._build_symmetries()
         self._build_fields()
         self._build_groups()
         conventions = self._build_conventions()
@@ -101,7 +105,37 @@ class _Builder:
             raise ModelMeaningError("the model has no lagrangian terms", self.syntax.theory.span,
                                     "add a 'lagrangian' section with one term per line")
         return m.Model(self.syntax.theory.name, self.syntax.theory.description, self.parameters, self.fields,
-                       self.groups, self.definitions, terms, conventions, self.source)
+                       self.groups, self.definitions, terms, conventions, self.source, self.symmetries)
+
+    def _build_symmetries(self) -> None:
+        for s in self.syntax.globals_:
+            order = int(s.order) if s.order.isdigit() else 0
+            if s.kind == "U" and order == 1:
+                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "U1", 1, s.span)
+            elif s.kind == "Z" and 2 <= order <= 1000:
+                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "Z", order, s.span)
+            else:
+                raise ModelMeaningError(f"unknown global symmetry '{s.kind}({s.order})'", s.kind_span,
+                                        "write U(1) for a conserved charge or Z(N) (N from 2 to 1000) for a "
+                                        "discrete one, e.g. darkpar Z(2)")
+
+    def _global_charge(self, f: sx.FieldDecl, c: sx.ChargeAttr, is_complex: bool) -> tuple[str, Fraction] | None:
+        """A field's charge under a global symmetry: any rational for U(1), a whole number mod N for Z(N)."""
+        symmetry = self.symmetries[c.group]
+        value = Fraction(c.value)
+        if symmetry.kind == "Z":
+            if value.denominator != 1:
+                raise ModelMeaningError(f"a charge under {symmetry.label} '{symmetry.name}' is a whole number",
+                                        c.span, f"write e.g. charge {symmetry.name} 1 (odd under a Z(2))")
+            value = value % symmetry.order
+        if value == 0:
+            return None
+        self_conjugate = symmetry.kind == "Z" and (2 * value) % symmetry.order == 0
+        if not is_complex and not self_conjugate:
+            raise ModelMeaningError(f"the real field '{f.name}' cannot carry a {symmetry.label} charge "
+                                    f"{_show_fraction(value)}", c.span,
+                                    f"declare it complex: {f.kind} {f.name} complex ...")
+        return (c.group, value)
 
     def _attr_span(self, decl: sx.GaugeDecl, key: str) -> Span:
         return dict(decl.attribute_spans).get(key, decl.span)
@@ -170,11 +204,21 @@ class _Builder:
                     raise ModelMeaningError("a mass is a parameter name (or 0 for a massless field)",
                                             f.mass_span or f.span, "declare it under parameters: mass mX = 5.0")
             charges: list[tuple[str, Fraction]] = []
+            global_charges: list[tuple[str, Fraction]] = []
             for c in f.charges:
+                if c.group in self.symmetries:
+                    if any(g == c.group for g, _ in global_charges):
+                        raise ModelMeaningError(f"'{f.name}' is given two charges under '{c.group}'", c.span,
+                                                "give one charge per symmetry")
+                    charge = self._global_charge(f, c, is_complex)
+                    if charge is not None:
+                        global_charges.append(charge)
+                    continue
                 if c.group not in group_names:
                     raise ModelMeaningError(f"charge under an undeclared group '{c.group}'", c.span,
-                                            did_you_mean(c.group, group_names,
-                                                         "declare the group in the gauge section"))
+                                            did_you_mean(c.group, list(group_names) + list(self.symmetries),
+                                                         "declare the group in the gauge section, or a global "
+                                                         "symmetry in the global section"))
                 if c.value != 0:
                     charges.append((c.group, c.value))
             if charges and not is_complex:
@@ -183,6 +227,9 @@ class _Builder:
             representations: list[tuple[str, str]] = []
             kinds = {g.name: g.group for g in self.syntax.gauges}
             for r in f.representations:
+                if r.group in self.symmetries:
+                    raise ModelMeaningError(f"'{r.group}' is a global symmetry: its fields carry a charge, "
+                                            "not a representation", r.span, f"write: charge {r.group} VALUE")
                 if r.group not in kinds:
                     raise ModelMeaningError(f"representation of an undeclared group '{r.group}'", r.span,
                                             did_you_mean(r.group, kinds, "declare the group in the gauge section"))
@@ -205,7 +252,7 @@ class _Builder:
                 if g.boson == f.name and g.group == "SU":
                     representations.append((g.name, "adjoint"))
             self.fields[f.name] = m.Field(f.name, f.kind, is_complex, mass, tuple(charges), f.description, f.span,
-                                          tuple(representations))
+                                          tuple(representations), tuple(global_charges))
 
     def _build_groups(self) -> None:
         for g in self.syntax.gauges:
@@ -639,18 +686,11 @@ class _Builder:
         if isinstance(node, sx.Group):
             return self._free_indices(node.inner)
         if isinstance(node, sx.Sum):
-            result: Counter[str] | None = None
-            for _, t in node.terms:
-                if isinstance(t, sx.HermitianConjugate):
-                    continue
-                free = self._free_indices(t)
-                if result is None:
-                    result = free
-                elif set(free) != set(result):
-                    extra = sorted(set(free) ^ set(result))
-                    raise ModelMeaningError(f"the summands carry different free indices ({', '.join(extra)})",
-                                            _span_of(t), "every summand of a sum needs the same free indices")
-            return result or Counter()
+            summands = [t for _, t in node.terms if not isinstance(t, sx.HermitianConjugate)]
+            frees = [self._free_indices(t) for t in summands]
+            if len({frozenset(f) for f in frees}) > 1:
+                self._summand_mismatch(summands, frees)
+            return frees[0] if frees else Counter()
         if isinstance(node, sx.Product):
             seen: Counter[str] = Counter()
             for factor in node.factors:
@@ -667,6 +707,40 @@ class _Builder:
             return self._free_indices(node.base)
         return Counter()
 
+    def _summand_mismatch(self, summands: list[sx.Expr], frees: list[Counter[str]]) -> None:
+        """Point at the summand whose free indices differ from those of most others, and say how."""
+        sets = [frozenset(f) for f in frees]
+        usual = max(sets, key=lambda x: (sets.count(x), -sets.index(x)))
+        odd = next(k for k, x in enumerate(sets) if x != usual)
+
+        def describe(names: frozenset[str]) -> str:
+            if not names:
+                return "no free index"
+            quoted = ", ".join(f"'{n}'" for n in sorted(names))
+            return f"the free ind{'ex' if len(names) == 1 else 'ices'} {quoted}"
+
+        others = "the other summand" if len(summands) == 2 else "the other summands"
+        hint = "every summand of a sum needs the same free indices"
+        implied = [k for k, t in enumerate(summands) if self._implies_group_index(t)]
+        explicit = [k for k, t in enumerate(summands) if k not in implied and sets[k]]
+        if implied and explicit:
+            hint = ("a group index left implied (dag(phi) phi) is contracted inside its summand and is not free: "
+                    "write the group indices out in every summand, or in none")
+        mine = describe(sets[odd])
+        if odd in implied and not sets[odd]:
+            mine = "an implied group index (contracted inside it), so no free index"
+        raise ModelMeaningError(f"this summand has {mine}, {others} {describe(usual)}", _span_of(summands[odd]), hint)
+
+    def _implies_group_index(self, node: sx.Expr) -> bool:
+        """Whether a field in an SU(N) representation is written without its group indices."""
+        for s in _walk(node):
+            if isinstance(s, sx.Symbol) and s.name in self.fields:
+                f = self.fields[s.name]
+                lorentz = 1 if f.is_vector else 0
+                if any(r != "adjoint" for _, r in f.representations) and len(s.indices) == lorentz:
+                    return True
+        return False
+
     def _index_span(self, node: sx.Expr, index: str) -> Span | None:
         for s in _walk(node):
             if isinstance(s, sx.Symbol):
@@ -674,6 +748,10 @@ class _Builder:
                     if i.name == index:
                         return i.span
         return None
+
+
+def _show_fraction(value: Fraction) -> str:
+    return f"{'+' if value > 0 else ''}{value}"
 
 
 def _index_example(representation: str) -> str:

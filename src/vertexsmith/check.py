@@ -43,6 +43,7 @@ from .derive import (canonical_legs, check_chains, derive_rules, make_legs, mono
                      species_of)
 from .errors import Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, expand_model
+from .invariance import find_violations
 from .rules import P2, Vertex, VertexTerm
 
 SEVERITIES = ("error", "warning", "note")
@@ -220,6 +221,7 @@ class _Checker:
             else:
                 good.append(mono)
         self.check_charges(good)
+        self.check_invariance(good)
         self.check_dimensions(good)
         self.check_tadpoles(good)
         self.check_mixing(good)
@@ -244,6 +246,11 @@ class _Checker:
             self.add("error", f"term is not neutral under '{group_name}': its {what} {shown}", span,
                      "the charges of every term must add up to 0 (bar() and dag() fields count with the "
                      "opposite sign): check the charges in the fields section and the conjugations in this term")
+
+    def check_invariance(self, monomials: list[Monomial]) -> None:
+        """SU(N) index contractions and global U(1) and Z(N) charges, at the offending factor."""
+        for finding in find_violations(self.model, monomials):
+            self.add("error", finding.message, finding.span, finding.hint)
 
     # -------------------------------------------------------------- dimensions
     def check_dimensions(self, monomials: list[Monomial]) -> None:

@@ -178,7 +178,15 @@ def command_check(args: argparse.Namespace) -> int:
         raise UsageError("the 'check' command is not available in this installation "
                          "(the module vertexsmith.check is missing)",
                          hint="use 'vertexsmith rules MODEL', which also reports every error in the model")
-    model = load(args.model)
+    try:
+        model = load(args.model)
+    except UsageError:
+        raise
+    except VertexsmithError as err:
+        # a model that cannot be built is one error: report it and still give the summary line
+        report(err)
+        emit(f"{err.source.name if err.source else args.model}: 1 error, 0 warnings, 0 notes\n", sys.stdout)
+        return EXIT_MODEL
     diagnostics = list(checker.check_model(model))
     counts = {"error": 0, "warning": 0, "note": 0}
     for diagnostic in diagnostics:

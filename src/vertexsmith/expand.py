@@ -312,8 +312,12 @@ class _Expander:
             inner = self.expand(node.inner)
             for p in inner:
                 if p.pending:
-                    raise ModelMeaningError("a derivative inside dag() needs a field after it", p.pending[0].span,
-                                            "write dag(D[mu] s)")
+                    op = p.pending[0]
+                    name = f"{'D' if op.covariant else 'd'}[{op.index.split('#')[0]}]"
+                    raise ModelMeaningError(f"{name} inside dag() reaches a part without a field (a constant summand "
+                                            "of what it acts on) and has nothing to differentiate there", op.span,
+                                            f"apply {name} to the field part only, e.g. dag({name} s) for "
+                                            "a definition v + s")
             return [self.conjugate(p) for p in inner]
         raise TypeError(f"unexpected node {node!r}")  # pragma: no cover
 

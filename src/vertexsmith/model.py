@@ -56,6 +56,7 @@ class Field:
     description: str
     span: Span = dataclasses.field(compare=False)
     representations: tuple[tuple[str, str], ...] = ()  # (group, fundamental|antifundamental|adjoint)
+    global_charges: tuple[tuple[str, Fraction], ...] = ()  # (global symmetry, charge; mod N for Z(N))
 
     def representation(self, group: str) -> str | None:
         return dict(self.representations).get(group)
@@ -107,6 +108,24 @@ class GaugeGroup:
     def xi(self) -> sympy.Symbol:
         """The gauge parameter of this group, named after its boson."""
         return sympy.Symbol(f"xi_{self.boson}", positive=True)
+
+
+@dataclass(frozen=True)
+class GlobalSymmetry:
+    """A global symmetry the Lagrangian must respect: U(1) (kind 'U1') or Z(N) (kind 'Z', order N)."""
+
+    name: str
+    kind: str
+    order: int
+    span: Span = dataclasses.field(compare=False)
+
+    def conserved(self, total: Fraction) -> bool:
+        """Whether a term of this total charge respects the symmetry (Z(N): total = 0 mod N)."""
+        return total == 0 if self.kind == "U1" else total % self.order == 0
+
+    @property
+    def label(self) -> str:
+        return "U(1)" if self.kind == "U1" else f"Z({self.order})"
 
 
 @dataclass(frozen=True)
@@ -257,6 +276,7 @@ class Model:
     terms: tuple[Term, ...]
     conventions: Conventions
     source: Source
+    symmetries: dict[str, GlobalSymmetry] = dataclasses.field(default_factory=dict)
 
     def parameter_values(self, overrides: Mapping[str, complex] | None = None) -> dict[sympy.Symbol, complex]:
         """Numeric values of all parameters: the model's own numbers, overridden by the caller's."""
