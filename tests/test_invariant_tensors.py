@@ -154,8 +154,8 @@ def test_eps_vertex_in_every_output() -> None:
     assert "ϵ_i₁i₃" in render(rules, "text", width=200)
     assert r"\varepsilon_{i_{1} i_{3}}" in v.latex
     data = json.loads(render(rules, "json"))
-    factors = [x["factor"]["sympy"] for x in data["vertices"] if "GroupAlternating" in x["factor"]["sympy"]]
-    assert factors, "the JSON carries the alternating tensor"
+    factors = [x["factor"]["text"] for x in data["vertices"] if "alt_weak[" in x["factor"]["text"]]
+    assert "(-I*yu)*alt_weak[i1,i3]*PR" in factors
     symbols = {p.name: p.symbol for p in rules.model.parameters.values()}
     assert any(sympy.expand(parse_factor(f, symbols) - v.factor) == 0 for f in factors)
     form = export_rules(rules, "form")
@@ -176,3 +176,18 @@ def test_exported_module_evaluates_the_eps_vertex(tmp_path) -> None:
     for labels in (("bar(Q)", "u", "dag(H)"), ("bar(u)", "Q", "H")):
         exported = module.VERTICES[labels](*momenta)
         assert np.allclose(exported, rules.vertex(*labels).evaluate(momenta))
+
+
+def test_hand_rules_read_the_alternating_tensor(tmp_path, capsys) -> None:
+    from vertexsmith.cli import main
+
+    model = tmp_path / "up.vsm"
+    model.write_text(UP.replace("KINETIC", "dag(D[mu] H) D[mu] H"), encoding="utf-8")
+    hand = tmp_path / "up.hand"
+    hand.write_text("gauge feynman\nvertex bar(Q) u dag(H) : -I yu alt_weak[i1,i3] PR\n"
+                    "vertex bar(u) Q H : -I conj(yu) alt_weak[i3,i2] PL\n", encoding="utf-8")
+    main(["compare", str(model), str(hand)])
+    out = capsys.readouterr().out
+    # the second is written with its indices swapped: antisymmetry makes it the negative
+    assert "equal        vertex bar(Q) u dag(H)" in out
+    assert "equal        vertex bar(u) Q H" not in out and "vertex bar(u) Q H" in out

@@ -54,7 +54,7 @@ from .parse import MAX_HAND_BYTES, parse_hand_rules_text  # noqa: F401 - MAX_HAN
 from .pipeline import derive
 from .rules import MU, NU, P, Leg, Propagator, Rules, Vertex
 from .structures import permutation_sign
-from .symbolic import (factor_text, Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
+from .symbolic import (factor_text, Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupAlternating, GroupDelta, LeviCivita, Metric, ProjL, ProjR,
                        Sigma, Slash, StructureConstant)
 from .syntax import (HandRule, HandRules, HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient,
                      HSum)
@@ -350,6 +350,8 @@ class _Numeric:
                 raise ctx.error(f"the momentum {name} takes one index", span)
             return self.tensor(self.momenta[name], indices, False, span)
         expected = {"gamma": 1, "sigma": 2, "g": 2, "eps": 4, "f": 3, "T": 3, "delta": 2}
+        if name == "alt" and indices and "alt" not in ctx.parameters:  # N indices for SU(N): counted there
+            return self._group_tensor(name, indices, span, named_group)
         if name in expected and (indices or name not in ctx.parameters):  # g[mu,nu] is the metric even beside a coupling g
             if len(indices) != expected[name]:
                 raise ctx.error(f"{name} takes {expected[name]} index{'es' if expected[name] > 1 else ''}", span)
@@ -394,13 +396,17 @@ class _Numeric:
         n = ctx.ranks.get(group, 1)
         if n < 2:
             raise ctx.error(f"the group '{group}' is abelian: it has no {name}", span)
-        from .groups import su_generators, su_structure_constants
+        from .groups import MAX_ALTERNATING_RANK, su_alternating, su_generators, su_structure_constants
 
         adjoint, fundamental = _Space("group", n * n - 1, group), _Space("group", n, group)
         if name == "f":
             array, spaces = su_structure_constants(n).astype(complex), [adjoint] * 3
         elif name == "T":
             array, spaces = su_generators(n), [adjoint, fundamental, fundamental]
+        elif name == "alt":
+            if len(indices) != n or n > MAX_ALTERNATING_RANK:
+                raise ctx.error(f"alt of SU({n}) takes {n} indices", span)
+            array, spaces = su_alternating(n), [fundamental] * n
         else:
             known = [ctx.spaces[x] for x, _ in indices if x in ctx.spaces]
             space = known[0] if known else fundamental
@@ -459,7 +465,8 @@ class _Numeric:
 def _group_tensor_name(name: str, indices: Sequence[tuple[str, Span]], ctx: _Context) -> tuple[str, str | None]:
     """f_color[...], T_color[...], delta_color[...] (the group in the name, as vertexsmith writes them) -> (f, color)."""
     base, _, group = name.partition("_")
-    if indices and group and base in ("f", "T", "delta") and name not in ctx.parameters and group in ctx.model.groups:
+    if indices and group and base in ("f", "T", "delta", "alt") and name not in ctx.parameters \
+            and group in ctx.model.groups:
         return base, group
     return name, None
 
@@ -585,7 +592,7 @@ class _Symbolic:
         if name in ctx.momentum_names:
             p = self._slot(name)
             return FourVector(p, slots[0]) if slots else p
-        if name in ("gamma", "sigma", "g", "eps", "f", "T", "delta") and (node.indices or name not in ctx.parameters):
+        if name in ("gamma", "sigma", "g", "eps", "f", "T", "delta", "alt") and (node.indices or name not in ctx.parameters):
             if name == "gamma":
                 return Slash(slots[0]) if is_momentum[0] else Gamma(slots[0])
             if name == "sigma":
@@ -600,7 +607,7 @@ class _Symbolic:
             if name == "eps":
                 return LeviCivita(*slots)
             group = named_group or next((ctx.spaces[n].group for n, _ in node.indices if n in ctx.spaces), "")
-            cls = {"f": StructureConstant, "T": Generator, "delta": GroupDelta}[name]
+            cls = {"f": StructureConstant, "T": Generator, "delta": GroupDelta, "alt": GroupAlternating}[name]
             return cls(sympy.Symbol(group), *slots)
         if name == "I":
             return sympy.I
