@@ -180,9 +180,12 @@ class _Builder:
     def _build_fields(self) -> None:
         group_names = {g.name for g in self.syntax.gauges}
         for f in self.syntax.fields:
-            if f.kind in ("majorana", "ghost"):
-                raise ModelMeaningError(f"{f.kind} fields are not supported yet", f.span,
-                                        "use scalar, dirac or vector fields")
+            if f.kind == "ghost":
+                raise ModelMeaningError("ghost fields are made by the gauge fixing, not declared", f.span,
+                                        "leave them out: each non-abelian group gets its ghost")
+            if f.kind == "majorana" and f.reality == "complex":
+                raise ModelMeaningError("a Majorana fermion is its own antiparticle, so it cannot be complex", f.span,
+                                        f"remove 'complex', or declare a charged fermion: dirac {f.name} ...")
             if f.kind == "dirac" and f.reality == "real":
                 raise ModelMeaningError("a Dirac fermion is always complex", f.span,
                                         "remove 'real' (a self-conjugate fermion is a majorana field)")
@@ -221,6 +224,9 @@ class _Builder:
                                                          "symmetry in the global section"))
                 if c.value != 0:
                     charges.append((c.group, c.value))
+            if charges and f.kind == "majorana":
+                raise ModelMeaningError(f"the Majorana fermion '{f.name}' cannot carry a U(1) charge",
+                                        f.charges[0].span, f"a charged fermion is a Dirac field: dirac {f.name} ...")
             if charges and not is_complex:
                 raise ModelMeaningError(f"the real field '{f.name}' cannot carry a charge", f.charges[0].span,
                                         f"declare it complex: {f.kind} {f.name} complex ...")
@@ -241,6 +247,10 @@ class _Builder:
                 if rep is None:
                     raise ModelMeaningError(f"unknown representation '{r.representation}' of SU({rank})", r.span,
                                             "write fundamental, antifundamental or adjoint (leave a singlet out)")
+                if rep != "adjoint" and f.kind == "majorana":
+                    raise ModelMeaningError(f"the Majorana fermion '{f.name}' cannot sit in the {rep} representation",
+                                            r.span, "a Majorana field is real: only the adjoint fits (a gluino-like "
+                                            f"field), or declare it as dirac {f.name} ...")
                 if rep != "adjoint" and not is_complex:
                     raise ModelMeaningError(f"a real field cannot sit in the {rep} representation", r.span,
                                             f"declare it complex: {f.kind} {f.name} complex ...")

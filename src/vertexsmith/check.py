@@ -93,7 +93,7 @@ def conjugate_monomial(model: m.Model, mono: Monomial) -> Monomial:
     for atom in reversed(mono.atoms):
         if isinstance(atom, FieldAtom):
             f = model.fields[atom.field]
-            flip = f.is_complex or f.is_fermion
+            flip = f.two_ended
             atoms.append(replace(atom, conjugate=not atom.conjugate) if flip else atom)
         elif isinstance(atom, DiracAtom):
             kind, sign = _CONJUGATE_DIRAC[atom.kind]
@@ -123,7 +123,7 @@ def _key(model: m.Model, mono: Monomial) -> Key:
 
 
 def _conjugate_key(model: m.Model, key: Key) -> Key:
-    return tuple(sorted((name, (not c) if model.fields[name].is_complex else c) for name, c in key))
+    return tuple(sorted((name, (not c) if model.fields[name].two_ended else c) for name, c in key))
 
 
 def _label(model: m.Model, species: Species) -> str:
@@ -279,7 +279,7 @@ class _Checker:
             if len(key) != 2:
                 continue
             (f1, c1), (f2, c2) = key
-            if f1 != f2 or (self.model.fields[f1].is_complex and c1 == c2):
+            if f1 != f2 or (self.model.fields[f1].two_ended and c1 == c2):
                 self.add("error", f"'{_label(self.model, key[0])}' and '{_label(self.model, key[1])}' mix at "
                          "quadratic order", mono.origin,
                          "rotate the fields to mass eigenstates (or remove the mixing term) before deriving "
@@ -291,7 +291,7 @@ class _Checker:
         for mono in monomials:
             key = _key(self.model, mono)
             if len(key) == 2 and key[0][0] == key[1][0] and (key[0][1] != key[1][1]
-                                                            or not self.model.fields[key[0][0]].is_complex):
+                                                            or not self.model.fields[key[0][0]].two_ended):
                 quadratic[key[0][0]].append(mono)
         for f in self.model.fields.values():
             if f.kind == "ghost":  # generated with the gauge fixing, never written by hand
@@ -435,6 +435,8 @@ def _kinetic_text(model: m.Model, f: m.Field) -> str:
     """The canonical kinetic term of a field, in the model language."""
     n = f.name
     d = "D" if f.charges or f.representations else "d"
+    if f.kind == "majorana":  # self-conjugate: the conventional 1/2, as for a real scalar
+        return f"1/2 bar({n}) I gamma[mu] d[mu] {n}"
     if f.is_fermion:
         return f"bar({n}) I gamma[mu] {d}[mu] {n}"
     if f.is_vector:
@@ -452,6 +454,8 @@ def _kinetic_text(model: m.Model, f: m.Field) -> str:
 def _mass_text(model: m.Model, f: m.Field) -> str:
     """The canonical mass term of a field with its declared mass, in the model language."""
     n, mass = f.name, _show(f.mass)
+    if f.kind == "majorana":
+        return f"- 1/2 {mass} bar({n}) {n}"
     if f.is_fermion:
         return f"- {mass} bar({n}) {n}"
     if f.is_vector:

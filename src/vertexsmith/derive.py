@@ -36,7 +36,8 @@ Species = tuple[str, bool]
 def species_of(model: m.Model, atom: FieldAtom) -> Species:
     """Which leg a field factor can fill: (field, conjugated); real fields are never conjugated."""
     f = model.fields[atom.field]
-    return (atom.field, atom.conjugate if f.is_complex else False)
+    # a Majorana field keeps its bar: the two ends of a fermion flow are different legs
+    return (atom.field, atom.conjugate if f.two_ended else False)
 
 
 def _species_order(model: m.Model, s: Species) -> tuple:
@@ -464,7 +465,7 @@ def quadratic_kernel(model: m.Model, f: m.Field, monomials: Iterable[Monomial]) 
     Canonical: scalar one = p2 - m^2; Dirac slash_L = slash_R = 1, one_L = one_R = -m; vector
     metric = -p2 + m^2. The reading follows derive.propagator_for, which inverts the same kernel.
     """
-    species = [(f.name, True), (f.name, False)] if f.is_complex else [(f.name, False), (f.name, False)]
+    species = [(f.name, True), (f.name, False)] if f.two_ended else [(f.name, False), (f.name, False)]
     legs = make_legs(model, species)
     kernel: dict[str, sympy.Expr] = defaultdict(lambda: sympy.Integer(0))
     for mono in monomials:
@@ -591,7 +592,7 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
         elif len(species) == 2:
             (f1, c1), (f2, c2) = species
             field = model.fields[f1]
-            if f1 != f2 or (field.is_complex and c1 == c2):
+            if f1 != f2 or (field.two_ended and c1 == c2):
                 line = monos[0].origin
                 raise DerivationError(f"'{_label(model, species[0])}' and '{_label(model, species[1])}' mix at "
                                       "quadratic order", line,

@@ -18,6 +18,7 @@ import sympy
 
 from . import model as m
 from .errors import DerivationError, ModelMeaningError, Span
+from .fermion_flow import reversed_chain
 from .structures import permutation_sign
 
 MAX_MONOMIALS_PER_TERM = 20_000
@@ -112,7 +113,8 @@ class _Expander:
         for atom in reversed(p.atoms):
             if isinstance(atom, FieldAtom):
                 f = self.model.fields[atom.field]
-                atoms.append(replace(atom, conjugate=(not atom.conjugate) if f.is_complex else atom.conjugate))
+                # bar() flips for every fermion: (bar(chi) G psi)^dag = bar(psi) G' chi, Majorana chi too
+                atoms.append(replace(atom, conjugate=(not atom.conjugate) if f.two_ended else atom.conjugate))
             elif isinstance(atom, DiracAtom):
                 kind, sign = _CONJUGATE_DIRAC[atom.kind]
                 coefficient = coefficient * sign
@@ -483,7 +485,7 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
 
 
 def expand_model(model: m.Model) -> tuple[Monomial, ...]:
-    """Every monomial of the Lagrangian, term by term in written order."""
+    """Every monomial of the Lagrangian, term by term in written order, Majorana chains in flow form."""
     expander = _Expander(model)
     out: list[Monomial] = []
     for term in model.terms:
@@ -491,4 +493,73 @@ def expand_model(model: m.Model) -> tuple[Monomial, ...]:
         if len(out) > MAX_MONOMIALS:
             raise DerivationError(f"the Lagrangian expands into more than {MAX_MONOMIALS} monomials", term.span,
                                   "split the model or simplify its terms")
+    if any(f.kind == "majorana" for f in model.fields.values()):
+        out = [flowed for mono in out for flowed in orient_majorana_chains(model, mono)]
     return tuple(out)
+
+
+# ------------------------------------------------------------------ Majorana chains and fermion flow
+
+def _chains(model: m.Model, atoms: tuple[Atom, ...]) -> list[tuple[int, list[int], int]]:
+    """(bar atom, Dirac atoms, closing atom) positions of each spinor chain, in written order."""
+    chains: list[tuple[int, list[int], int]] = []
+    start: int | None = None
+    inside: list[int] = []
+    for k, atom in enumerate(atoms):
+        if isinstance(atom, DiracAtom) and start is not None:
+            inside.append(k)
+        elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
+            if atom.conjugate and start is None:
+                start, inside = k, []
+            elif not atom.conjugate and start is not None:
+                chains.append((start, inside, k))
+                start = None
+    return chains
+
+
+def _reverse_chain(mono: Monomial, chain: tuple[int, list[int], int]) -> Monomial:
+    """bar(a) G b rewritten as bar(b) G' a with G' = C G^T C^-1 (an identity for Majorana a and b).
+
+    The fields keep their derivatives and indices; the Dirac matrices take the chain's positions in
+    reversed order, and the sign is that of C G^T C^-1 (see fermion_flow.py). Atoms that stand
+    between the two fields (a boson, a ghost) stay where they are: moving a Grassmann factor past
+    the first field and back costs two signs, which cancel.
+    """
+    start, inside, end = chain
+    atoms = list(mono.atoms)
+    bar_atom, plain_atom = atoms[start], atoms[end]
+    assert isinstance(bar_atom, FieldAtom) and isinstance(plain_atom, FieldAtom)
+    kinds = [atoms[k].kind for k in inside]  # type: ignore[union-attr]
+    sign, matrices = reversed_chain(kinds, [atoms[k] for k in inside])
+    atoms[start] = replace(plain_atom, conjugate=True)
+    atoms[end] = replace(bar_atom, conjugate=False)
+    for k, matrix in zip(inside, matrices):
+        atoms[k] = matrix
+    return Monomial(sign * mono.coefficient, tuple(atoms), mono.origin)
+
+
+def orient_majorana_chains(model: m.Model, mono: Monomial) -> list[Monomial]:
+    """A monomial in fermion-flow form: the monomials whose vertices have flow-ordered Majorana legs.
+
+    A Majorana field is its own conjugate, so a chain bar(a) G b between Majorana fields equals
+    bar(b) G' a (Denner, Eck, Hahn & Kuebbeck, Nucl. Phys. B 387 (1992) 467, from memory).
+    - Two different Majorana fields: the chain is turned so that its bar end is the field declared
+      first; a term and its reversed partner then land on one vertex and add up.
+    - The same field at both ends (bar(chi) G chi): both readings are kept, each with the full
+      coefficient, because the functional derivative fills the bar-end leg with either factor. The
+      vertex is then i (G + G'): 2 i G for S, P and A, zero for V and T (the Majorana vector
+      current vanishes), and 1/2 bar(chi) (i gamma.d - m) chi gives the Dirac kernel.
+    """
+    order = {name: k for k, name in enumerate(model.fields)}
+    out = [mono]
+    for chain in reversed(_chains(model, mono.atoms)):  # from the right: positions to the left stay valid
+        start, _, end = chain
+        a, b = mono.atoms[start], mono.atoms[end]
+        assert isinstance(a, FieldAtom) and isinstance(b, FieldAtom)
+        if model.fields[a.field].kind != "majorana" or model.fields[b.field].kind != "majorana":
+            continue
+        if a.field == b.field:
+            out = out + [_reverse_chain(one, chain) for one in out]
+        elif order[a.field] > order[b.field]:
+            out = [_reverse_chain(one, chain) for one in out]
+    return out

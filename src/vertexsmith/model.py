@@ -74,6 +74,15 @@ class Field:
         return self.kind == "vector"
 
     @property
+    def two_ended(self) -> bool:
+        """Whether bar()/dag() of the field is a leg of its own: complex fields and every fermion.
+
+        A Majorana field is its own conjugate, but its two ends of a fermion flow (bar(chi) and chi)
+        are still different legs: a vertex states which way the flow runs through it.
+        """
+        return self.is_complex or self.is_fermion
+
+    @property
     def self_conjugate(self) -> bool:
         """Real scalars, real vectors and Majorana fermions are their own antiparticles."""
         return not self.is_complex

@@ -33,6 +33,14 @@ CONVENTIONS_TEXT = (
     "gamma5 = i gamma^0 gamma^1 gamma^2 gamma^3; propagator = i x inverse of the quadratic kernel, "
     "momentum p along the particle arrow"
 )
+# stated wherever a model has Majorana fields (fermion flow: Denner, Eck, Hahn & Kuebbeck,
+# Nucl. Phys. B 387 (1992) 467)
+FERMION_FLOW_TEXT = (
+    "Majorana legs follow a fermion flow: bar(chi) is where the flow leaves the vertex, chi where it "
+    "enters; read against the flow a vertex takes Gamma' = C Gamma^T C^-1 with C = i gamma^2 gamma^0 "
+    "(S, P, A unchanged; V, T change sign); a Majorana propagator is i(pslash + m)/(p^2 - m^2) with p "
+    "along the flow; diagrams take the sign of the permutation of their external spinors"
+)
 
 
 @dataclass(frozen=True)
@@ -86,6 +94,8 @@ class Leg:
         name = self.field
         if self.kind == "ghost":
             return f"outgoing ghost {name}" if self.conjugate else f"incoming ghost {name}"
+        if self.kind == "majorana":
+            return f"{name} in or out, fermion flow {'leaving' if self.conjugate else 'entering'} the vertex"
         if self.kind in ("dirac", "majorana"):
             if self.conjugate:
                 return f"outgoing {name} or incoming anti-{name}"
@@ -383,7 +393,8 @@ class Rules:
         covariant = "D = d - i g Q A" if c.covariant_sign == 1 else "D = d + i g Q A"
         gauge = {"xi": "R_xi gauge, symbolic xi per gauge boson", "feynman": "Feynman gauge (xi = 1)",
                  "unitary": "unitary gauge for massive vectors, Feynman gauge for massless ones"}[self.gauge]
-        return f"{CONVENTIONS_TEXT}; {covariant}; epsilon^{{0123}} = {c.eps0123:+d}; {gauge}"
+        flow = f"; {FERMION_FLOW_TEXT}" if any(f.kind == "majorana" for f in self.model.fields.values()) else ""
+        return f"{CONVENTIONS_TEXT}{flow}; {covariant}; epsilon^{{0123}} = {c.eps0123:+d}; {gauge}"
 
     def vertex(self, *labels: str) -> Vertex:
         """The vertex with these legs (in any order), returned with its legs in the order asked."""

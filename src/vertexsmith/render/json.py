@@ -26,6 +26,7 @@ from typing import TYPE_CHECKING, Any
 
 import sympy
 
+from ..rules import FERMION_FLOW_TEXT
 from ..symbolic import factor_text, to_latex
 
 if TYPE_CHECKING:
@@ -56,6 +57,7 @@ def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
     """Every convention the numbers depend on, one explicit field each."""
     c = rules.model.conventions
     sign = "-" if c.covariant_sign == 1 else "+"
+    majorana = any(f.kind == "majorana" for f in rules.model.fields.values())
     return {
         "metric": "(+,-,-,-)",
         "momenta": "all vertex momenta incoming; leg k carries momentum p<k>",
@@ -65,7 +67,7 @@ def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
                                 "the leg fields); symmetry factors included",
         "fermion_legs": "bar leg first; the factor is the Dirac matrix Gamma_(alpha beta) between bar(psi) "
                         "(index alpha) and psi (index beta); Grassmann sign from ordering the fields as "
-                        "the legs list them",
+                        "the legs list them" + (f"; {FERMION_FLOW_TEXT}" if majorana else ""),
         "covariant_derivative": {"sign": c.covariant_sign,
                                  "form": f"D_mu = d_mu {sign} i g Q A_mu (U(1) charge Q), "
                                          f"D_mu = d_mu {sign} i g T^a A^a_mu (SU(N))"},
