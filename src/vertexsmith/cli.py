@@ -39,7 +39,7 @@ EXIT_USAGE = 2
 PROG = "vertexsmith"
 # modules that contribute subcommands; each has add_command(subparsers) and is cheap to import
 # (standard library and `errors` only at module level: the engine is imported when the command runs)
-PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare_command")
+PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare_command", "vertexsmith.report")
 
 
 # ------------------------------------------------------------------ helpers shared by the commands
@@ -145,8 +145,12 @@ def command_rules(args: argparse.Namespace) -> int:
 
     if args.snippet and args.format != "latex":
         raise UsageError("--snippet applies only to --format latex")
-    model = load(args.model)
+    from .report import load_with_values
+    from .selection import select_from_arguments
+
+    model = load_with_values(args)
     rules = model.derive(gauge=args.gauge)  # derive() attaches the model's source to its errors
+    rules = select_from_arguments(rules, args)
     options: dict[str, object] = {}
     if args.format == "latex":
         options["snippet"] = args.snippet
@@ -178,8 +182,10 @@ def command_check(args: argparse.Namespace) -> int:
         raise UsageError("the 'check' command is not available in this installation "
                          "(the module vertexsmith.check is missing)",
                          hint="use 'vertexsmith rules MODEL', which also reports every error in the model")
+    from .report import load_with_values
+
     try:
-        model = load(args.model)
+        model = load_with_values(args)
     except UsageError:
         raise
     except VertexsmithError as err:
@@ -252,11 +258,13 @@ def _build_parser() -> argparse.ArgumentParser:
                        help="gauge for the vector propagators (default: xi, symbolic R_xi)")
     rules.add_argument("-o", "--output", metavar="FILE",
                        help="write to FILE (atomically; nothing is written if derivation fails)")
+    _add_shared_arguments(rules, select=True)
     rules.set_defaults(func=command_rules)
 
     check = subparsers.add_parser("check", help="check a model and list its problems",
                                   description="Check a model and print its diagnostics.")
     check.add_argument("model", metavar="MODEL", help="model file, or the name of a shipped model")
+    _add_shared_arguments(check, select=False)
     check.set_defaults(func=command_check)
 
     models = subparsers.add_parser("models", help="list the shipped example models",
@@ -273,6 +281,17 @@ def _build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _add_shared_arguments(parser: argparse.ArgumentParser, select: bool) -> None:
+    """Selection (--field, --legs), parameter values (--set, --values) and -q, from vertexsmith.selection."""
+    from .report import add_quiet_argument
+    from .selection import add_selection_arguments, add_value_arguments
+
+    if select:
+        add_selection_arguments(parser)
+    add_value_arguments(parser)
+    add_quiet_argument(parser)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (0 fine, 1 model errors, 2 unusable command or file)."""
     try:
@@ -281,7 +300,10 @@ def main(argv: Sequence[str] | None = None) -> int:
             args = parser.parse_args(list(argv) if argv is not None else None)
         except SystemExit as exc:  # --help, --version, or a usage error already printed
             return EXIT_OK if exc.code is None else exc.code if isinstance(exc.code, int) else EXIT_USAGE
-        code: int = args.func(args)
+        from .progress import shown, wanted
+
+        with shown(wanted(getattr(args, "quiet", False))):  # progress bars on a terminal only
+            code: int = args.func(args)
         return code
     except UsageError as err:
         report(err)

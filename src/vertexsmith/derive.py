@@ -18,6 +18,7 @@ from typing import Iterable, Iterator, Sequence
 import sympy
 
 from . import model as m
+from . import progress
 from .errors import DerivationError, UsageError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom
 from .groups import dimension
@@ -584,7 +585,9 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
         groups[species].append(mono)
     vertices: list[Vertex] = []
     quadratic: dict[str, list[Monomial]] = defaultdict(list)
+    step = progress.stage("deriving vertices", total=len(groups))
     for species, monos in groups.items():
+        step.advance()
         if len(species) >= 3:
             v = vertex_from(model, list(species), monos)
             if v is not None:
@@ -603,7 +606,9 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
         quadratic[group.boson].extend(_gauge_fixing(model, group, gauge))
     without_ghosts = {g.ghost for g in model.groups.values() if not _has_ghosts(model, g, gauge)}
     propagators = []
+    step = progress.stage("deriving propagators", total=len(model.fields))
     for f in model.fields.values():
+        step.advance()
         if f.kind == "ghost" and f.name in without_ghosts:
             continue
         propagators.append(propagator_for(model, f, quadratic.get(f.name, []), gauge))

@@ -93,6 +93,12 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
     parser.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output)")
     parser.add_argument("--gauge", choices=GAUGE_CHOICES, default="xi",
                         help="gauge for the vector propagators (default: xi, symbolic R_xi)")
+    from .report import add_quiet_argument
+    from .selection import add_selection_arguments, add_value_arguments
+
+    add_selection_arguments(parser)
+    add_value_arguments(parser)
+    add_quiet_argument(parser)
     parser.set_defaults(func=run)
 
 
@@ -100,7 +106,11 @@ def run(args: argparse.Namespace) -> int:
     """Run `vertexsmith export`; errors go up to the command line, which reports them (exit 1 or 2)."""
     from .cli import emit
 
-    text = export_model(args.model, args.to, None, args.gauge)
+    from .report import load_with_values
+    from .selection import select_from_arguments
+
+    rules = select_from_arguments(load_with_values(args).derive(gauge=args.gauge), args)
+    text = export_rules(rules, args.to)
     if args.output in (None, "-"):
         emit(text, sys.stdout)
     else:

@@ -207,8 +207,21 @@ class Vertex:
     def latex(self) -> str:
         return " + ".join(_part_latex(p) for p in self.parts).replace("+ -", "- ")
 
+    # notebook and terminal display (render/notebook.py): tables with the picture and typeset factor
     def _repr_latex_(self) -> str:
-        return f"$\\text{{{' '.join(self.labels)}}}:\\quad {self.latex}$"
+        from .render.notebook import vertex_latex
+
+        return vertex_latex(self)
+
+    def _repr_html_(self) -> str:
+        from .render.notebook import vertex_html
+
+        return vertex_html(self)
+
+    def __rich__(self) -> object:
+        from .render.notebook import vertex_rich
+
+        return vertex_rich(self)
 
     def evaluate(self, momenta: Sequence[Sequence[float]] | np.ndarray,
                  values: Mapping[str, complex] | None = None) -> np.ndarray:
@@ -339,7 +352,19 @@ class Propagator:
         return to_latex(self.factor)
 
     def _repr_latex_(self) -> str:
-        return f"$\\text{{{self.field}}}:\\quad {self.latex}$"
+        from .render.notebook import propagator_latex
+
+        return propagator_latex(self)
+
+    def _repr_html_(self) -> str:
+        from .render.notebook import propagator_html
+
+        return propagator_html(self)
+
+    def __rich__(self) -> object:
+        from .render.notebook import propagator_rich
+
+        return propagator_rich(self)
 
     def evaluate(self, p: Sequence[float] | np.ndarray, values: Mapping[str, complex] | None = None) -> np.ndarray:
         """Numeric propagator: scalar (), Dirac (4, 4), vector (4, 4) with upper indices."""
@@ -433,9 +458,19 @@ class Rules:
                          hint=did_you_mean(name, [p.field for p in self.propagators], ""))
 
     def _repr_latex_(self) -> str:
-        rows = [v._repr_latex_().strip("$") for v in self.vertices]
-        rows += [p._repr_latex_().strip("$") for p in self.propagators]
-        return "$\\begin{array}{l}" + " \\\\ ".join(rows) + "\\end{array}$"
+        from .render.notebook import rules_latex
+
+        return rules_latex(self)
+
+    def _repr_html_(self) -> str:
+        from .render.notebook import rules_html
+
+        return rules_html(self)
+
+    def __rich__(self) -> object:
+        from .render.notebook import rules_rich
+
+        return rules_rich(self)
 
 
 __all__ = ["Leg", "Vertex", "VertexTerm", "CouplingPart", "Propagator", "Rules", "CONVENTIONS_TEXT", "P", "P2",
