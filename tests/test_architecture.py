@@ -16,7 +16,8 @@ from vertexsmith import pipeline
 PACKAGE = Path(vs.__file__).resolve().parent
 # the command modules (cli and its plug-ins) sit on top and may reach one another; the package's
 # own __init__ only re-exports (renderers read __version__ from it)
-TOP = {"vertexsmith", "vertexsmith.__main__", "vertexsmith.cli", "vertexsmith.export", "vertexsmith.compare"}
+TOP = {"vertexsmith", "vertexsmith.__main__", "vertexsmith.cli", "vertexsmith.export", "vertexsmith.compare",
+       "vertexsmith.report"}
 
 
 def _module_name(path: Path) -> str:

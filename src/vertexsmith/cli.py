@@ -145,8 +145,7 @@ def command_rules(args: argparse.Namespace) -> int:
 
     if args.snippet and args.format != "latex":
         raise UsageError("--snippet applies only to --format latex")
-    from .report import load_with_values
-    from .selection import select_from_arguments
+    from .selection import load_with_values, select_from_arguments
 
     model = load_with_values(args)
     rules = model.derive(gauge=args.gauge)  # derive() attaches the model's source to its errors
@@ -182,7 +181,7 @@ def command_check(args: argparse.Namespace) -> int:
         raise UsageError("the 'check' command is not available in this installation "
                          "(the module vertexsmith.check is missing)",
                          hint="use 'vertexsmith rules MODEL', which also reports every error in the model")
-    from .report import load_with_values
+    from .selection import load_with_values
 
     try:
         model = load_with_values(args)
@@ -283,8 +282,7 @@ def _build_parser() -> argparse.ArgumentParser:
 
 def _add_shared_arguments(parser: argparse.ArgumentParser, select: bool) -> None:
     """Selection (--field, --legs), parameter values (--set, --values) and -q, from vertexsmith.selection."""
-    from .report import add_quiet_argument
-    from .selection import add_selection_arguments, add_value_arguments
+    from .selection import add_quiet_argument, add_selection_arguments, add_value_arguments
 
     if select:
         add_selection_arguments(parser)

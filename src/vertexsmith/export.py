@@ -93,8 +93,7 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
     parser.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output)")
     parser.add_argument("--gauge", choices=GAUGE_CHOICES, default="xi",
                         help="gauge for the vector propagators (default: xi, symbolic R_xi)")
-    from .report import add_quiet_argument
-    from .selection import add_selection_arguments, add_value_arguments
+    from .selection import add_quiet_argument, add_selection_arguments, add_value_arguments
 
     add_selection_arguments(parser)
     add_value_arguments(parser)
@@ -106,8 +105,7 @@ def run(args: argparse.Namespace) -> int:
     """Run `vertexsmith export`; errors go up to the command line, which reports them (exit 1 or 2)."""
     from .cli import emit
 
-    from .report import load_with_values
-    from .selection import select_from_arguments
+    from .selection import load_with_values, select_from_arguments
 
     rules = select_from_arguments(load_with_values(args).derive(gauge=args.gauge), args)
     text = export_rules(rules, args.to)

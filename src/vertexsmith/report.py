@@ -13,17 +13,8 @@ imported only when a command runs, so registering the commands costs nothing.
 from __future__ import annotations
 
 import argparse
-from typing import TYPE_CHECKING
 
-from .selection import add_selection_arguments, add_value_arguments
-
-if TYPE_CHECKING:
-    from .model import Model
-
-
-def add_quiet_argument(parser: argparse.ArgumentParser) -> None:
-    """-q/--quiet: no progress bars (they are off anyway when stderr is not a terminal)."""
-    parser.add_argument("-q", "--quiet", action="store_true", help="show no progress bars")
+from .selection import add_quiet_argument, add_selection_arguments, add_value_arguments, load_with_values
 
 
 def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]") -> None:
@@ -53,15 +44,6 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
     values.set_defaults(func=run_values)
 
 
-def load_with_values(args: argparse.Namespace) -> "Model":
-    """The model named on the command line, with the values of --values and --set in place."""
-    from .cli import load
-    from .selection import values_from_arguments, with_values
-
-    values = values_from_arguments(args)  # read the values first: a bad file fails before the model loads
-    return with_values(load(args.model), values)
-
-
 def run_report(args: argparse.Namespace) -> int:
     """vertexsmith report MODEL: derive, check and write the page."""
     from .cli import write_output
@@ -88,4 +70,4 @@ def run_values(args: argparse.Namespace) -> int:
     return 0
 
 
-__all__ = ["add_command", "add_quiet_argument", "load_with_values", "run_report", "run_values"]
+__all__ = ["add_command", "run_report", "run_values"]

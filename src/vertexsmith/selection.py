@@ -171,7 +171,7 @@ def with_values(model: "Model", values: Mapping[str, sympy.Expr]) -> "Model":
     """The model with these numbers in place of its own; parameters defined from them follow."""
     import sympy
 
-    from .build import resolve_values_from
+    from .values import resolve_values_from
 
     if not values:
         return model
@@ -194,10 +194,11 @@ def with_values(model: "Model", values: Mapping[str, sympy.Expr]) -> "Model":
 
 
 def _format(value: complex) -> str:
+    # repr: the shortest decimal that reads back to the same float, so a written file loses nothing
     if value.imag == 0:
-        return f"{value.real:.12g}"
+        return repr(value.real)
     sign = "-" if value.imag < 0 else "+"
-    return f"{value.real:.12g} {sign} {abs(value.imag):.12g}i"
+    return f"{value.real!r} {sign} {abs(value.imag)!r}i"
 
 
 def values_text(model: "Model") -> str:
@@ -234,6 +235,20 @@ def add_selection_arguments(parser: argparse.ArgumentParser) -> None:
                         help="only the vertex with exactly these legs, in this order (e.g. 'bar(e) e A')")
 
 
+def add_quiet_argument(parser: argparse.ArgumentParser) -> None:
+    """-q/--quiet: no progress bars (they are off anyway when stderr is not a terminal)."""
+    parser.add_argument("-q", "--quiet", action="store_true", help="show no progress bars")
+
+
+def load_with_values(args: argparse.Namespace) -> "Model":
+    """The model named on the command line (args.model), with the values of --values and --set in place."""
+    from ._resources import resolve_model_argument
+    from .pipeline import load_model
+
+    values = values_from_arguments(args)  # read the values first: a bad file fails before the model loads
+    return with_values(load_model(resolve_model_argument(args.model)), values)
+
+
 def values_from_arguments(args: argparse.Namespace) -> dict[str, sympy.Expr]:
     """The values of --values FILE, then each --set."""
     values: dict[str, sympy.Expr] = {}
@@ -252,5 +267,6 @@ def select_from_arguments(rules: "Rules", args: argparse.Namespace) -> "Rules":
 
 
 __all__ = ["select_rules", "parse_number", "parse_values", "read_values", "parse_assignment", "with_values",
-           "values_text", "add_value_arguments", "add_selection_arguments", "values_from_arguments",
+           "values_text", "add_value_arguments", "add_selection_arguments", "add_quiet_argument", "load_with_values",
+           "values_from_arguments",
            "select_from_arguments"]

@@ -24,14 +24,14 @@ from ..symbolic import to_latex
 from .cards import SPIN, propagator_card, vertex_card
 from .json import conventions_to_dict
 from .mathml import latex_to_mathml
-from .svg import COLOURS
+from .svg import line_svg
 
 if TYPE_CHECKING:
     from ..model import Model
     from ..rules import Rules
 
 _KEY = (("dashed", "scalar"), ("fermion", "fermion (arrow: particle flow)"), ("wavy", "vector"),
-        ("curly", "vector in an adjoint representation"), ("dotted", "ghost"))
+        ("curly", "gluon-like vector (adjoint of SU(N), N >= 3)"), ("dotted", "ghost"))
 
 
 def _asset(name: str) -> str:
@@ -109,16 +109,8 @@ def _conventions(rules: "Rules") -> str:
 
 
 def _key() -> str:
-    swatches = []
-    for style, meaning in _KEY:
-        dash = {"dashed": ' stroke-dasharray="7 4"', "dotted": ' stroke-dasharray="1 4" stroke-linecap="round"'}
-        if style in ("wavy", "curly"):
-            line = f'<path d="M2 7 Q6 1 10 7 T18 7 T26 7 T34 7" fill="none" stroke="{COLOURS[style]}" stroke-width="2"/>'
-        else:
-            line = (f'<path d="M2 7 L34 7" fill="none" stroke="{COLOURS[style]}" stroke-width="2"'
-                    f'{dash.get(style, "")}/>')
-        swatches.append(f'<span><svg xmlns="http://www.w3.org/2000/svg" width="36" height="14" viewBox="0 0 36 14">'
-                        f"{line}</svg>{escape(meaning)}</span>")
+    swatches = [f'<span><svg xmlns="http://www.w3.org/2000/svg" width="40" height="16" viewBox="0 0 40 16">'
+                f"{line_svg(style, 2.0, 6.0, 1.0, 0.0, 36.0)}</svg>{escape(meaning)}</span>" for style, meaning in _KEY]
     return f'<div class="key">{"".join(swatches)}</div>'
 
 

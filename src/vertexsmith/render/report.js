@@ -1,7 +1,9 @@
 // vertexsmith report page: the filter box narrows the vertices to those with the fields typed.
-// A word names a field or a leg label (bar(e), dag(s)); a word that names none matches the
-// beginning of a field name, so the list narrows while the name is typed. Words repeated
-// ask for that many legs ("G G G" finds the vertices with three or more G legs).
+// A word names a field (any leg of it) or a leg label (bar(e), dag(s): that leg only); a word
+// that names neither matches the beginning of a field name, so the list narrows while a name is
+// typed. Words repeated ask for that many legs ("G G G": vertices with three or more G legs).
+// Each word takes a leg of its own; labels are served first, then fields, then beginnings, so
+// that "H dag(H)" finds the vertices with both legs whatever the order typed.
 (function () {
   "use strict";
   var box = document.getElementById("filter");
@@ -9,14 +11,20 @@
   var empty = document.getElementById("filter-empty");
   if (!box) { return; }
   var cards = Array.prototype.slice.call(document.querySelectorAll("section.vertex"));
-  var known = {};
+  var fields = {};
+  var labels = {};
   var legsOf = cards.map(function (card) {
     var legs = JSON.parse(card.getAttribute("data-legs"));
-    legs.forEach(function (leg) { known[leg[0]] = true; known[leg[1]] = true; });
+    legs.forEach(function (leg) { fields[leg[0]] = true; labels[leg[1]] = true; });
     return legs;
   });
+  function rank(word) {
+    if (fields[word]) { return 1; }
+    return labels[word] ? 0 : 2;
+  }
   function fits(word, leg) {
-    if (known[word]) { return leg[0] === word || leg[1] === word; }
+    if (fields[word]) { return leg[0] === word; }
+    if (labels[word]) { return leg[1] === word; }
     return leg[0].toLowerCase().indexOf(word.toLowerCase()) === 0;
   }
   function matches(legs, words) {
@@ -30,6 +38,7 @@
   }
   function apply() {
     var words = box.value.split(/[\s,;]+/).filter(function (w) { return w.length !== 0; });
+    words.sort(function (a, b) { return rank(a) - rank(b); });
     var shown = 0;
     cards.forEach(function (card, k) {
       var visible = matches(legsOf[k], words);

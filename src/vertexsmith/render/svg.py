@@ -2,14 +2,14 @@
 
 A picture shows each leg in the line style physicists read at a glance: dashed for scalars,
 solid with an arrow for fermions (the arrow follows the particle: into the vertex on a `psi` leg,
-out of it on a `bar(psi)` leg), wavy for vectors, curly for vectors in the adjoint of an SU(N)
-group (gluons), dotted with an arrow for ghosts. Beside each leg: its label as the model language
+out of it on a `bar(psi)` leg), wavy for vectors, curly for gluon-like vectors (the adjoint of
+SU(N), N >= 3), dotted with an arrow for ghosts. Beside each leg: its label as the model language
 writes it, its incoming momentum (a small arrow pointing at the vertex, as the conventions state)
 and its index names. Every leg is one ``<g class="leg" data-style="...">`` so that tests and
 style sheets can find it. Output is deterministic: coordinates are rounded to 0.1.
 
-    >>> leg_style("vector", (("color", "adjoint", 8),))
-    'curly'
+    >>> leg_style("vector", (("color", "adjoint", 8),)), leg_style("vector", (("weak", "adjoint", 3),))
+    ('curly', 'wavy')
 """
 
 from __future__ import annotations
@@ -23,8 +23,8 @@ from typing import Sequence
 STYLES = ("dashed", "fermion", "wavy", "curly", "dotted")
 # our own palette, one colour per style, readable on white and in greyscale prints
 COLOURS = {"dashed": "#2b7a5b", "fermion": "#23408e", "wavy": "#b35a1f", "curly": "#7d3c98", "dotted": "#5d6d7e"}
-_SIZE = 220
-_CENTRE = _SIZE / 2
+_WIDTH, _HEIGHT = 300, 230  # wide enough for labels such as bar(gh_W) beside a horizontal leg
+_CX, _CY = _WIDTH / 2, _HEIGHT / 2
 _INNER = 9.0  # legs start a little away from the vertex dot
 _OUTER = 74.0  # and end here, leaving room for the labels
 
@@ -41,14 +41,18 @@ class LegPicture:
 
 
 def leg_style(kind: str, representations: Sequence[tuple] = ()) -> str:
-    """The line style of a field kind; vectors in an adjoint representation are gluon-like."""
+    """The line style of a field kind; representations are (group, representation, dimension).
+
+    Curly lines are the trade's sign for gluons: a vector in the adjoint of SU(N) with N >= 3
+    (dimension 8 or more). Photon-, W- and Z-like vectors (U(1), SU(2)) are wavy.
+    """
     if kind in ("dirac", "majorana"):
         return "fermion"
     if kind == "ghost":
         return "dotted"
     if kind == "vector":
-        adjoint = any(len(r) > 1 and r[1] == "adjoint" for r in representations)
-        return "curly" if adjoint else "wavy"
+        gluon_like = any(len(r) > 2 and r[1] == "adjoint" and r[2] >= 8 for r in representations)
+        return "curly" if gluon_like else "wavy"
     return "dashed"
 
 
@@ -87,6 +91,21 @@ def _curly(x0: float, y0: float, ux: float, uy: float, length: float) -> str:
     return "M" + " L".join(f"{_fmt(x)} {_fmt(y)}" for x, y in points)
 
 
+DASHES = {"dashed": ' stroke-dasharray="7 4"', "dotted": ' stroke-dasharray="1 4" stroke-linecap="round"'}
+
+
+def line_svg(style: str, x0: float, y0: float, ux: float, uy: float, length: float) -> str:
+    """The line itself in its style, from (x0, y0) along the unit direction (ux, uy)."""
+    stroke = f'fill="none" stroke="{COLOURS[style]}" stroke-width="{1.6 if style == "curly" else 2}"'
+    if style == "wavy":
+        return f'<path class="line" d="{_wavy(x0, y0, ux, uy, length)}" {stroke}/>'
+    if style == "curly":
+        return f'<path class="line" d="{_curly(x0, y0, ux, uy, length)}" {stroke}/>'
+    x1, y1 = _along(x0, y0, ux, uy, length, 0.0)
+    return (f'<path class="line" d="M{_fmt(x0)} {_fmt(y0)} L{_fmt(x1)} {_fmt(y1)}" {stroke}'
+            f'{DASHES.get(style, "")}/>')
+
+
 def _arrowhead(cx: float, cy: float, ux: float, uy: float, size: float) -> str:
     tip = (cx + size * ux, cy + size * uy)
     left = _along(cx - size * ux, cy - size * uy, ux, uy, 0, size * 0.8)
@@ -100,15 +119,7 @@ def _leg_svg(leg: LegPicture, x0: float, y0: float, x1: float, y1: float) -> str
     length = math.hypot(x1 - x0, y1 - y0)
     ux, uy = (x1 - x0) / length, (y1 - y0) / length  # points at the vertex
     parts = [f'<g class="leg" data-style="{leg.style}" data-label="{escape(leg.label)}">']
-    stroke = f'fill="none" stroke="{colour}" stroke-width="{1.6 if leg.style == "curly" else 2}"'
-    if leg.style == "wavy":
-        parts.append(f'<path class="line" d="{_wavy(x0, y0, ux, uy, length)}" {stroke}/>')
-    elif leg.style == "curly":
-        parts.append(f'<path class="line" d="{_curly(x0, y0, ux, uy, length)}" {stroke}/>')
-    else:
-        dash = {"dashed": ' stroke-dasharray="7 4"', "dotted": ' stroke-dasharray="1 4" stroke-linecap="round"'}
-        parts.append(f'<path class="line" d="M{_fmt(x0)} {_fmt(y0)} L{_fmt(x1)} {_fmt(y1)}" {stroke}'
-                     f'{dash.get(leg.style, "")}/>')
+    parts.append(line_svg(leg.style, x0, y0, ux, uy, length))
     if leg.style in ("fermion", "dotted"):
         direction = 1.0 if leg.inward else -1.0
         mx, my = (x0 + x1) / 2, (y0 + y1) / 2
@@ -165,42 +176,35 @@ def vertex_svg(legs: Sequence[LegPicture], title: str = "") -> str:
     for k, leg in enumerate(legs):
         angle = math.pi - math.pi / n - 2 * math.pi * k / n if n > 1 else math.pi
         cx, cy = math.cos(angle), -math.sin(angle)
-        x0, y0 = _CENTRE + _OUTER * cx, _CENTRE + _OUTER * cy
-        x1, y1 = _CENTRE + _INNER * cx, _CENTRE + _INNER * cy
+        x0, y0 = _CX + _OUTER * cx, _CY + _OUTER * cy
+        x1, y1 = _CX + _INNER * cx, _CY + _INNER * cy
         body.append(_leg_svg(leg, x0, y0, x1, y1))
-    body.append(f'<circle cx="{_fmt(_CENTRE)}" cy="{_fmt(_CENTRE)}" r="5" fill="#1b1b1b"/>')
-    return _svg(body, _SIZE, _SIZE, title, n)
+    body.append(f'<circle cx="{_fmt(_CX)}" cy="{_fmt(_CY)}" r="5" fill="#1b1b1b"/>')
+    return _svg(body, _WIDTH, _HEIGHT, title, n)
 
 
 def propagator_svg(leg: LegPicture, title: str = "") -> str:
     """A propagator: one line from left to right, the momentum p along the particle arrow."""
-    width, height = 240, 90
+    width, height = 260, 96
     y = 44.0
-    x0, x1 = 34.0, width - 34.0
+    x0, x1 = 40.0, width - 40.0
     colour = COLOURS[leg.style]
     ux = 1.0
     length = x1 - x0
-    stroke = f'fill="none" stroke="{colour}" stroke-width="{1.6 if leg.style == "curly" else 2}"'
-    body = [f'<g class="leg" data-style="{leg.style}" data-label="{escape(leg.label)}">']
-    if leg.style == "wavy":
-        body.append(f'<path class="line" d="{_wavy(x0, y, ux, 0.0, length)}" {stroke}/>')
-    elif leg.style == "curly":
-        body.append(f'<path class="line" d="{_curly(x0, y, ux, 0.0, length)}" {stroke}/>')
-    else:
-        dash = {"dashed": ' stroke-dasharray="7 4"', "dotted": ' stroke-dasharray="1 4" stroke-linecap="round"'}
-        body.append(f'<path class="line" d="M{_fmt(x0)} {_fmt(y)} L{_fmt(x1)} {_fmt(y)}" {stroke}'
-                    f'{dash.get(leg.style, "")}/>')
+    body = [f'<g class="leg" data-style="{leg.style}" data-label="{escape(leg.label)}">',
+            line_svg(leg.style, x0, y, ux, 0.0, length)]
     if leg.style in ("fermion", "dotted"):
         body.append(f'<polygon class="arrow" points="{_arrowhead((x0 + x1) / 2, y, 1.0, 0.0, 5.5)}" fill="{colour}"/>')
     body.append(f'<path class="momentum" d="M{_fmt(x0 + 60)} {_fmt(y - 18)} L{_fmt(x1 - 60)} {_fmt(y - 18)}" '
                 'stroke="#444" stroke-width="1"/>')
     body.append(f'<polygon points="{_arrowhead(x1 - 60, y - 18, 1.0, 0.0, 3)}" fill="#444"/>')
     body.append(_text(width / 2, y - 25, "p", "momentum-label", 11))
+    # the indices of each end under it: the first of each pair belongs to the left end
     ends = leg.indices[0::2], leg.indices[1::2]
-    for x, names in ((x0 - 4, ends[0]), (x1 + 4, ends[1])):
+    for x, names, anchor in ((x0 - 32, ends[0], "start"), (x1 + 32, ends[1], "end")):
         if names:
-            body.append(_text(x, y + 24, " ".join(_subscripted(i) for i in names), "leg-indices", 10))
-    body.append(_text(width / 2, y + 38, escape(leg.label), "leg-label", 13, bold=True))
+            body.append(_text(x, y + 22, " ".join(_subscripted(i) for i in names), "leg-indices", 10, anchor))
+    body.append(_text(width / 2, y + 42, escape(leg.label), "leg-label", 13, bold=True))
     body.append("</g>")
     return _svg(body, width, height, title, 1)
 
@@ -212,4 +216,4 @@ def _svg(body: list[str], width: int, height: int, title: str, legs: int) -> str
     return head + caption + "".join(body) + "</svg>"
 
 
-__all__ = ["STYLES", "COLOURS", "LegPicture", "leg_style", "vertex_svg", "propagator_svg"]
+__all__ = ["STYLES", "COLOURS", "DASHES", "line_svg", "LegPicture", "leg_style", "vertex_svg", "propagator_svg"]
