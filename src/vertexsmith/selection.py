@@ -23,12 +23,14 @@ import re
 from dataclasses import replace
 from fractions import Fraction
 from pathlib import Path
-from typing import TYPE_CHECKING, Iterable, Mapping, Sequence
+from typing import TYPE_CHECKING, Iterable, Mapping, Sequence, TypeVar
 
 from .errors import Source, Span, UsageError, did_you_mean
 
 if TYPE_CHECKING:
     import sympy
+
+    from .pipeline import Model as LoadedModel
 
     from .model import Model
     from .rules import Rules
@@ -38,6 +40,7 @@ _REAL_ONLY = re.compile(rf"^[+-]?{_UNSIGNED}$")
 _COMPLEX = re.compile(rf"^(?P<re>[+-]?{_UNSIGNED})\s*(?P<sign>[+-])\s*(?P<im>{_UNSIGNED})?\s*\*?$")
 _IMAGINARY = re.compile(rf"^(?P<sign>[+-]?)\s*(?P<im>{_UNSIGNED})?\s*\*?$")
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_M = TypeVar("_M", bound="Model")
 _HINT = "write a number such as 0.31, -2.5e-3 or, for a complex parameter, 0.3 - 0.1i"
 
 
@@ -167,7 +170,7 @@ def parse_assignment(text: str) -> tuple[str, sympy.Expr]:
         raise UsageError(f"--set {key.strip()}: '{value}' is not a number", hint=_HINT) from None
 
 
-def with_values(model: "Model", values: Mapping[str, sympy.Expr]) -> "Model":
+def with_values(model: _M, values: Mapping[str, sympy.Expr]) -> _M:
     """The model with these numbers in place of its own; parameters defined from them follow."""
     import sympy
 
@@ -240,7 +243,7 @@ def add_quiet_argument(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("-q", "--quiet", action="store_true", help="show no progress bars")
 
 
-def load_with_values(args: argparse.Namespace) -> "Model":
+def load_with_values(args: argparse.Namespace) -> "LoadedModel":
     """The model named on the command line (args.model), with the values of --values and --set in place."""
     from ._resources import resolve_model_argument
     from .pipeline import load_model
