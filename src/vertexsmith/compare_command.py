@@ -2,8 +2,8 @@
 
 Kept apart from `compare.py` so that building the command-line parser (and `vertexsmith --help`)
 imports neither sympy nor numpy: this module imports only the standard library and `errors`, and
-reaches the engine when the command runs. The defaults of the comparison live here, and
-`compare.py` reads them, so that the help text and the API agree.
+reaches the engine when the command runs. The defaults of the comparison come from
+`comparison_settings.py`, which the engine reads too.
 """
 
 from __future__ import annotations
@@ -13,8 +13,7 @@ import sys
 
 from .errors import UsageError
 
-POINTS = 4  # random phase-space points per rule
-SEED = 20261201  # seed of the random points, so that a comparison is reproducible
+from .comparison_settings import POINTS, SEED
 
 
 def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]") -> None:
@@ -47,4 +46,4 @@ def run(args: argparse.Namespace) -> int:
     return report.exit_code(args.require_all)
 
 
-__all__ = ["POINTS", "SEED", "add_command", "run"]
+__all__ = ["add_command", "run"]
