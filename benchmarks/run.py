@@ -324,6 +324,39 @@ def bench_compare(repeats: int) -> None:
     print()
 
 
+_EVALUATE_PROBE = """
+import statistics, sys, time
+import numpy as np, vertexsmith as vs
+name, labels, points = sys.argv[1], sys.argv[2].split(), int(sys.argv[3])
+vertex = vs.load_model(vs.example(name)).derive().vertex(*labels)
+momenta = np.random.default_rng(1).normal(size=(points, len(labels), 4))
+start = time.perf_counter(); vertex.evaluate(momenta); first = time.perf_counter() - start
+later = []
+for _ in range(5):
+    start = time.perf_counter(); vertex.evaluate(momenta); later.append(time.perf_counter() - start)
+print(first, statistics.median(later))
+"""
+
+
+def bench_evaluate() -> None:
+    print("(g) vertex.evaluate() on a batch of phase-space points, fresh process: the first call (compiles",
+          "to numpy) and the median of 5 later calls")
+    env = dict(os.environ, PYTHONPATH=str(Path(vs.__file__).resolve().parents[1]))
+    rows = []
+    # the four-gluon vertex has no momenta: a batch is a read-only view of one 4^4 8^4 tensor; the
+    # three-gluon one is materialised (32768 numbers per point), the quark-gluon one has no momenta either
+    for name, labels, points, target in (("qcd", "G G G G", 10_000, (0.2, 0.1)), ("qcd", "G G G", 100, None),
+                                         ("qcd", "bar(u) u G", 10_000, None), ("qed", "bar(ele) ele A", 10_000, None)):
+        out = subprocess.run([sys.executable, "-c", _EVALUATE_PROBE, name, labels, str(points)], capture_output=True,
+                             text=True, env=env, check=True).stdout.split()
+        first, later = float(out[0]), float(out[1])
+        status = ("ok" if first < target[0] and later < target[1] else "SLOW") if target else ""
+        rows.append((name, labels, f"{points:,}", f"{first:.3f}", f"{later:.4f}",
+                     f"< {target[0]} / < {target[1]}" if target else "", status))
+    print(_table(("model", "vertex", "points", "first s", "later s", "target", "status"), rows))
+    print()
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--profile", action="store_true", help="profile load_model() and derive() on the largest generated model")
@@ -340,6 +373,7 @@ def main(argv: list[str] | None = None) -> int:
     bench_non_abelian(args.repeats)
     bench_export(args.points)
     bench_compare(args.repeats)
+    bench_evaluate()
     return 0
 
 

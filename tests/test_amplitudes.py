@@ -149,7 +149,7 @@ def test_ee_to_mumu_matches_the_textbook_trace(qed: ModuleType, rng: np.random.G
 def test_ee_to_mumu_massless_limit(qed: ModuleType, rng: np.random.Generator) -> None:
     # massless limit, Peskin & Schroeder eq. (5.10)-(5.12) (from memory): 1/4 sum |M|^2 = 2 e^4 (t^2 + u^2) / s^2
     e = 0.3
-    params = {"e": e, "me": 0.0, "mmu": 0.0}
+    params = {"e": e, "me": 0.0, "mmu": 0.0, "xi_A": 1.0}  # R_xi gauge: xi has no default
     p1, p2 = two_body(rng, 10.0, 0.0, 0.0)
     k1, k2 = two_body(rng, 10.0, 0.0, 0.0)
     s, t, u = (mdot(p1 + p2, p1 + p2).real, mdot(p1 - k1, p1 - k1).real, mdot(p1 - k2, p1 - k2).real)
@@ -265,7 +265,7 @@ def test_example_s_channel_matches_the_trace(example: ModuleType) -> None:
     s = mdot(p1 + p2, p1 + p2).real
     expected = (gx**2 * (2 * gx) ** 2 / (s - mx**2) ** 2 * 4
                 * (2 * mdot(p1, kk) * mdot(p2, kk) - mdot(kk, kk) * (mdot(p1, p2) + mchi**2))).real
-    got = example.chi_chibar_to_s_sbar(rules, p1, p2, k1, k2, params={"y": 0.0})
+    got = example.chi_chibar_to_s_sbar(rules, p1, p2, k1, k2, params={"y": 0.0, "xi_X": 1.0})
     assert got == pytest.approx(expected, rel=1e-10)
     # with the Yukawa coupling on, the result still does not depend on xi_X
     one = example.chi_chibar_to_s_sbar(rules, p1, p2, k1, k2, params={"xi_X": 1.0})

@@ -93,7 +93,14 @@ def test_exported_module_is_deterministic_and_compiles(tmp_path: Path) -> None:
 def test_module_tables(exported: dict) -> None:
     rules, module, _ = exported["qed"]
     assert module.PARAMETERS["me"] == pytest.approx(0.00051099895)
-    assert module.PARAMETERS["xi_A"] == 1.0
+    # the gauge parameter has no default, as in vertex.evaluate(): the caller must give it
+    assert "xi_A" not in module.PARAMETERS and "xi_A" in module.PARAMETER_NAMES
+    with pytest.raises(KeyError, match="xi_A"):
+        module.propagator_A(np.array([1.0, 0.2, 0.0, 0.3]))
+    with pytest.raises(vertexsmith.UsageError, match="xi_A"):
+        rules.propagator("A").evaluate(np.array([1.0, 0.2, 0.0, 0.3]))
+    np.testing.assert_allclose(module.propagator_A(np.array([1.0, 0.2, 0.0, 0.3]), params={"xi_A": 3.0}),
+                               rules.propagator("A").evaluate([1.0, 0.2, 0.0, 0.3], values={"xi_A": 3.0}))
     assert module.FIELDS["ele"]["kind"] == "dirac" and module.FIELDS["ele"]["charges"] == {"qed": -1}
     assert module.CONVENTIONS["metric"] == "(+,-,-,-)" and module.CONVENTIONS["eps0123"] == -1
     assert set(module.PROPAGATORS) == {"A", "ele", "muon"}

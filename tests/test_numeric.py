@@ -202,8 +202,12 @@ def test_wrong_number_of_momenta_is_a_usage_error(shipped):
         vertex.evaluate(np.zeros((2, 4)))
     with pytest.raises(vs.UsageError):
         vertex.evaluate(np.zeros((3, 3)))
+    with pytest.raises(vs.UsageError, match="3 four-momenta"):
+        vertex.evaluate(np.zeros((5, 2, 4)))  # a batch of five points with a leg missing
     with pytest.raises(vs.UsageError, match="one four-momentum"):
-        shipped("qed").derive().propagator("A").evaluate(np.zeros((2, 4)))
+        shipped("qed").derive().propagator("A").evaluate(np.zeros((2, 3)))
+    with pytest.raises(vs.UsageError, match="one four-momentum"):
+        shipped("qed").derive().propagator("A").evaluate(2.0)
 
 
 def test_missing_value_is_a_usage_error_naming_the_parameter(build):

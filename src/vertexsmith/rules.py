@@ -8,21 +8,23 @@ numbers in the documented array layout.
 from __future__ import annotations
 
 import dataclasses
+from fractions import Fraction
 from dataclasses import dataclass, replace
 from functools import cached_property
-from typing import TYPE_CHECKING, Mapping, Sequence
+from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
 import numpy as np
 import sympy
 
 from .errors import UsageError, did_you_mean
-from .numeric import GAMMA, IDENTITY4, METRIC, PROJ_L, PROJ_R, evaluate_structure, lower, minkowski_dot, slash
+from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
+from .numeric import GAMMA, lower
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (factor_text, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
-    from .model import Model
+    from .model import GaugeGroup, Model
 
 CONVENTIONS_TEXT = (
     "metric (+,-,-,-); all momenta incoming; d_mu on a leg with momentum p gives -i p_mu; "
@@ -131,19 +133,45 @@ class CouplingPart:
     terms: tuple[VertexTerm, ...]
 
 
-def _values_for(model: "Model", values: Mapping[str, complex] | None) -> dict[sympy.Symbol, complex]:
-    resolved = model.parameter_values(dict(values or {}))
+class _Values(dict):
+    """Parameter values by name for the compiled functions; a missing one is the caller's to give."""
+
+    what = ""
+
+    def __missing__(self, name: str) -> complex:
+        raise UsageError(f"{self.what}: no value for {name}", hint=f"pass values={{'{name}': ...}}"
+                         + (" (the gauge parameter of R_xi gauge has no default)" if name.startswith("xi_") else ""))
+
+
+def _values_for(model: "Model", values: Mapping[str, complex] | None, what: str,
+                cache: dict[tuple, _Values] | None = None) -> _Values:
+    """The parameter values by name; `cache` (one per vertex or propagator) keeps the last few, since
+    resolving definitions through sympy costs a millisecond, more than evaluating a vertex."""
+    try:
+        key: tuple | None = tuple(sorted((str(k), complex(v)) for k, v in (values or {}).items()))
+    except (TypeError, ValueError):
+        key = None  # not numbers: parameter_values reports it
+    if cache is not None and key is not None and key in cache:
+        return cache[key]
+    resolved = _Values({s.name: v for s, v in model.parameter_values(dict(values or {})).items()})
+    resolved.what = what
+    if cache is not None and key is not None:
+        if len(cache) >= 32:
+            cache.pop(next(iter(cache)))
+        cache[key] = resolved
     return resolved
 
 
-def _numeric(expr: sympy.Expr, values: dict[sympy.Symbol, complex], what: str) -> complex:
-    # substitute only the symbols the expression has: handing sympy every value is quadratic in model size
-    result = expr.subs({s: values[s] for s in expr.free_symbols if s in values}) if expr.free_symbols else expr
-    missing = sorted(str(s) for s in result.free_symbols)
-    if missing:
-        raise UsageError(f"{what}: no value for {', '.join(missing)}",
-                         hint="pass values={" + ", ".join(f"'{m}': ..." for m in missing) + "}")
-    return complex(sympy.N(result))
+def _batch(momenta: Sequence[Sequence[float]] | np.ndarray, legs: int, what: str) -> np.ndarray:
+    """Momenta as a complex array of shape (..., legs, 4), checked."""
+    try:
+        p = np.asarray(momenta, dtype=complex)
+    except (TypeError, ValueError):
+        raise UsageError(f"{what}: the momenta are not numbers") from None
+    if p.ndim < 2 or p.shape[-2:] != (legs, 4):
+        raise UsageError(f"evaluate() needs {legs} four-momenta (one per leg), got shape {p.shape}",
+                         hint=f"pass an array of shape ({legs}, 4), or (N, {legs}, 4) for a batch of N points")
+    return p
 
 
 @dataclass(frozen=True)
@@ -223,26 +251,27 @@ class Vertex:
 
         return vertex_rich(self)
 
+    @cached_property
+    def _compiled(self) -> Callable[..., np.ndarray]:
+        """The vertex as a numpy function, compiled once (the exported module's code, see codegen.py)."""
+        ranks = {name: g.rank for name, g in self.model.groups.items()}
+        source = vertex_function_source(self, "vertex", ranks, documented=False)
+        return compile_function(source, "vertex", self.model.conventions.eps0123, ranks)
+
     def evaluate(self, momenta: Sequence[Sequence[float]] | np.ndarray,
                  values: Mapping[str, complex] | None = None) -> np.ndarray:
-        """The factor as a complex array: one incoming 4-momentum (E, px, py, pz) per leg, in leg order."""
-        p = np.asarray(momenta, dtype=complex)
-        if p.shape != (len(self.legs), 4):
-            raise UsageError(f"evaluate() needs {len(self.legs)} four-momenta (one per leg), got shape {p.shape}")
-        numbers = _values_for(self.model, values)
-        axes = [axis for leg in self.legs for axis in leg.axes]
-        ranks = {name: g.rank for name, g in self.model.groups.items()}
-        dims = {(leg.position, g): d for leg in self.legs for g, _, d in leg.representations}
-        result: np.ndarray | None = None
-        for term in self.terms:
-            c = _numeric(term.coefficient, numbers, "vertex " + " ".join(self.labels))
-            tensor = c * evaluate_structure(term.structure, axes, p, self.model.conventions.eps0123, ranks,
-                                                dims)
-            result = tensor if result is None else result + tensor
-        if result is None:
-            shape = tuple(4 for leg in self.legs for _ in leg.axes)
-            return np.zeros(shape, dtype=complex)
-        return result
+        """The factor as a complex array: one incoming 4-momentum (E, px, py, pz) per leg, in leg order.
+
+        `momenta` of shape (legs, 4) gives the layout shape; a batch of shape (..., legs, 4) gives
+        (..., layout), all points in one call. The first call compiles the vertex to numpy code.
+        """
+        what = "vertex " + " ".join(self.labels)
+        p = _batch(momenta, len(self.legs), what)
+        return self._compiled(*np.moveaxis(p, -2, 0), _values_for(self.model, values, what, self._value_cache))
+
+    @cached_property
+    def _value_cache(self) -> dict[tuple, _Values]:
+        return {}
 
     def reordered(self, order: Sequence[int]) -> "Vertex":
         """The same vertex with legs in another order (order[k] = old position of new leg k+1)."""
@@ -284,7 +313,6 @@ def _part_latex(part: CouplingPart) -> str:
 
 
 P = sympy.Symbol("p", real=True)
-P2 = sympy.Symbol("p2", real=True)  # stands for p.p in propagator coefficients
 MU, NU = sympy.Symbol("mu"), sympy.Symbol("nu")
 
 
@@ -366,28 +394,31 @@ class Propagator:
 
         return propagator_rich(self)
 
+    @cached_property
+    def _compiled(self) -> Callable[..., np.ndarray]:
+        """The propagator as a numpy function, compiled once (the exported module's code)."""
+        ranks = {name: g.rank for name, g in self.model.groups.items()}
+        source = propagator_function_source(self, "propagator", documented=False)
+        return compile_function(source, "propagator", self.model.conventions.eps0123, ranks)
+
     def evaluate(self, p: Sequence[float] | np.ndarray, values: Mapping[str, complex] | None = None) -> np.ndarray:
-        """Numeric propagator: scalar (), Dirac (4, 4), vector (4, 4) with upper indices."""
-        momentum = np.asarray(p, dtype=complex)
-        if momentum.shape != (4,):
-            raise UsageError(f"evaluate() needs one four-momentum (E, px, py, pz), got shape {momentum.shape}")
-        numbers = _values_for(self.model, values)
-        numbers[P2] = minkowski_dot(momentum, momentum)
-        a = _numeric(self.a, numbers, f"propagator {self.field}")
-        b = _numeric(self.b, numbers, f"propagator {self.field}")
-        if self.kind == "scalar":
-            result = np.array(a, dtype=complex)
-        elif self.chiral is not None:
-            left = _numeric(self.chiral[0], numbers, f"propagator {self.field}")
-            right = _numeric(self.chiral[1], numbers, f"propagator {self.field}")
-            result = (left * PROJ_L + right * PROJ_R) @ slash(momentum)
-        elif self.kind == "dirac":
-            result = a * slash(momentum) + b * IDENTITY4
-        else:
-            result = a * METRIC + b * np.outer(momentum, momentum)
-        for _, _, dim in self.representations:
-            result = np.multiply.outer(result, np.eye(dim))
-        return result
+        """Numeric propagator: scalar (), Dirac (4, 4), vector (4, 4) with upper indices.
+
+        A batch of momenta of shape (..., 4) gives (..., axes), all points in one call.
+        """
+        what = f"propagator {self.field}"
+        try:
+            momentum = np.asarray(p, dtype=complex)
+        except (TypeError, ValueError):
+            raise UsageError(f"{what}: the momentum is not a number") from None
+        if momentum.ndim < 1 or momentum.shape[-1] != 4:
+            raise UsageError(f"evaluate() needs one four-momentum (E, px, py, pz), got shape {momentum.shape}",
+                             hint="pass an array of shape (4,), or (N, 4) for a batch of N points")
+        return self._compiled(momentum, _values_for(self.model, values, what, self._value_cache))
+
+    @cached_property
+    def _value_cache(self) -> dict[tuple, _Values]:
+        return {}
 
 
 def _over_common_denominator(parts: list[tuple[sympy.Expr, sympy.Expr]]) -> sympy.Expr:
@@ -438,6 +469,61 @@ class Rules:
         known = [" ".join(v.labels) for v in self.vertices]
         raise UsageError(f"no vertex with legs {' '.join(labels)}",
                          hint=did_you_mean(" ".join(labels), known, "the vertices are: " + "; ".join(known[:10])))
+
+    # ------------------------------------------------------------ what amplitude code needs besides the rules
+
+    @property
+    def covariant_sign(self) -> int:
+        """+1 for D_mu = d_mu - i g Q A_mu (the default), -1 for D_mu = d_mu + i g Q A_mu."""
+        return self.model.conventions.covariant_sign
+
+    @property
+    def eps0123(self) -> int:
+        """The sign of epsilon^{0123} (upper indices) the factors use."""
+        return self.model.conventions.eps0123
+
+    def _group(self, name: str) -> "GaugeGroup":
+        if not isinstance(name, str) or name not in self.model.groups:
+            raise UsageError(f"no gauge group '{name}'",
+                             hint=did_you_mean(str(name), list(self.model.groups), "the groups are: "
+                                               + ", ".join(self.model.groups)))
+        group = self.model.groups[name]
+        if group.abelian:
+            raise UsageError(f"'{name}' is a U(1) group: it has charges, not generators",
+                             hint=f"use rules.charges(field)['{name}']")
+        return group
+
+    def generators(self, group: str, representation: str = "fundamental") -> np.ndarray:
+        """The generators of an SU(N) group as evaluate() uses them, shape (N^2 - 1, d, d).
+
+        fundamental: T^a (generalised Gell-Mann matrices / 2); antifundamental: -(T^a)^T;
+        adjoint: (T^a)_{bc} = -i f^{abc}.
+        """
+        g = self._group(group)
+        t = helper_namespace(self.eps0123, {g.name: g.rank})["_T"][g.name]
+        if representation == "fundamental":
+            return t.copy()
+        if representation == "antifundamental":
+            return -np.transpose(t, (0, 2, 1))
+        if representation == "adjoint":
+            return -1j * self.structure_constants(group)
+        raise UsageError(f"unknown representation '{representation}'",
+                         hint="use fundamental, antifundamental or adjoint")
+
+    def structure_constants(self, group: str) -> np.ndarray:
+        """f^{abc} of an SU(N) group as evaluate() uses them ([T^a, T^b] = i f^{abc} T^c), shape (N^2 - 1,)*3."""
+        g = self._group(group)
+        return helper_namespace(self.eps0123, {g.name: g.rank})["_F"][g.name].copy()
+
+    def charges(self, field: str) -> dict[str, Fraction]:
+        """A field's U(1) charges by group (a field not charged under a U(1) group is absent from it)."""
+        name = self.propagator(field).field  # accepts bar(psi) and dag(phi) and says what is known
+        return dict(self.model.fields[name].charges)
+
+    def representations(self, field: str) -> dict[str, str]:
+        """A field's SU(N) representations by group: fundamental, antifundamental or adjoint."""
+        name = self.propagator(field).field
+        return dict(self.model.fields[name].representations)
 
     def propagator(self, label: str) -> Propagator:
         """The propagator of a field (its name or its conjugate's label)."""

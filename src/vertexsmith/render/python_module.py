@@ -26,10 +26,10 @@ from typing import Iterable, Sequence
 import sympy
 from sympy.printing.numpy import NumPyPrinter
 
-from ..rules import P2, Propagator, Rules, Vertex
-from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
-                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
-from ..symbolic import _bracket_calls, factor_text, group_to_sympy, lorentz_to_sympy
+from ..codegen import (HELPERS_SOURCE, axes_text, axis_sizes, coefficient_code, propagator_function_source,
+                       vertex_function_source)
+from ..rules import Rules
+from ..symbolic import _bracket_calls, factor_text
 
 __all__ = ["render_python_module", "render", "vertex_function_name", "propagator_function_name"]
 
@@ -76,261 +76,6 @@ def _unique(names: Iterable[str]) -> list[str]:
         seen.add(candidate)
         out.append(candidate)
     return out
-
-
-# ------------------------------------------------------------------ coefficients
-
-class _CoefficientPrinter(NumPyPrinter):
-    """sympy to numpy code: parameters read from the dict `P`, p.p in propagators is the array `pp`."""
-
-    def __init__(self) -> None:
-        super().__init__({"fully_qualified_modules": True, "strict": True})
-
-    def _module_format(self, fqn: str, register: bool = True) -> str:
-        name = super()._module_format(fqn, register)
-        return "np." + name[len("numpy."):] if name.startswith("numpy.") else name
-
-    def _print_Symbol(self, expr: sympy.Symbol) -> str:
-        if expr == P2:
-            return "pp"
-        return f"P[{expr.name!r}]"
-
-    def _print_conjugate(self, expr: sympy.Expr) -> str:
-        return f"np.conj({self._print(expr.args[0])})"
-
-    def _print_Float(self, expr: sympy.Float) -> str:
-        return repr(float(expr))
-
-
-def _code(expr: sympy.Expr) -> str:
-    return _CoefficientPrinter().doprint(sympy.sympify(expr))
-
-
-# ------------------------------------------------------------------ einsum from a structure
-
-def _fraction_code(c: Fraction) -> str:
-    return str(c.numerator) if c.denominator == 1 else f"({c.numerator}/{c.denominator})"
-
-
-def _momentum_code(momentum: Momentum) -> str:
-    parts: list[str] = []
-    for leg, c in momentum.terms:
-        name = f"p{leg}"
-        if c == 1:
-            term = name
-        elif c == -1:
-            term = "-" + name
-        else:
-            term = f"{_fraction_code(c)}*{name}"
-        if parts and term.startswith("-"):
-            parts.append("- " + term[1:])
-        elif parts:
-            parts.append("+ " + term)
-        else:
-            parts.append(term)
-    text = " ".join(parts)
-    return text if len(momentum.terms) == 1 and momentum.terms[0][1] == 1 else f"({text})"
-
-
-_CHIRAL_CODE = {"gamma5": "_GAMMA5", "PL": "_PL", "PR": "_PR"}
-
-
-class _Einsum:
-    """Collects einsum operands (code) and subscripts for one structure, mirroring numeric.evaluate_structure."""
-
-    def __init__(self) -> None:
-        self._letters = iter(string.ascii_letters)
-        self._names: dict[object, str] = {}
-        self._dummies: dict[str, str] = {}
-        self.operands: list[str] = []
-        self.subscripts: list[str] = []
-
-    def label(self, key: object) -> str:
-        if key not in self._names:
-            self._names[key] = next(self._letters)
-        return self._names[key]
-
-    def fresh(self) -> str:
-        return self.label(object())
-
-    def add(self, code: str, subscript: str, batched: bool) -> None:
-        self.operands.append(code)
-        self.subscripts.append(("..." if batched else "") + subscript)
-
-    def slot(self, slot: Slot) -> str:
-        if isinstance(slot, LegIndex):
-            return self.label(("lorentz", slot.leg))
-        if isinstance(slot, Dummy):
-            if slot.name in self._dummies:
-                # the second occurrence of a contracted index is lowered through the metric
-                first = self._dummies.pop(slot.name)
-                other = self.fresh()
-                self.add("_METRIC", first + other, False)
-                return other
-            label = self.fresh()
-            self._dummies[slot.name] = label
-            return label
-        assert isinstance(slot, Momentum), slot  # group indices never sit in a Lorentz slot
-        label = self.fresh()
-        self.add(f"_lower({_momentum_code(slot)})", label, True)
-        return label
-
-
-def _einsum_call(structure: Structure, leg_axes: Sequence[tuple], ranks: dict[str, int],
-                 leg_dims: dict[tuple[int, str], int]) -> str | None:
-    """numpy code for one structure with axes (..., leg axes); None for a structure equal to 1."""
-    e = _Einsum()
-    for tensor in structure.tensors:
-        if isinstance(tensor, Dot):
-            label = e.fresh()
-            e.add(_momentum_code(tensor.p), label, True)
-            e.add(f"_lower({_momentum_code(tensor.q)})", label, True)
-        elif isinstance(tensor, Metric):
-            e.add("_METRIC", e.slot(tensor.a) + e.slot(tensor.b), False)
-        elif isinstance(tensor, Vector):
-            e.add(_momentum_code(tensor.momentum), e.slot(tensor.index), True)
-        elif isinstance(tensor, Epsilon):
-            e.add("_EPS", "".join(e.slot(s) for s in tensor.slots_), False)
-    for chain in structure.chains:
-        _chain(e, chain)
-    for g in structure.group:
-        labels = "".join(_group_label(e, x) for x in g.slots_)
-        if isinstance(g, StructureConstant):
-            e.add(f"_F[{g.group!r}]", labels, False)
-        elif isinstance(g, Generator):
-            e.add(f"_T[{g.group!r}]", labels, False)
-        elif isinstance(g, GroupAlternating):
-            e.add(f"_ALT[{g.group!r}]", labels, False)
-        else:
-            first = g.slots_[0]
-            n = ranks[g.group]
-            dim = leg_dims.get((first.leg, first.group), n) if isinstance(first, LegGroupIndex) else n
-            e.add(f"_delta({dim})", labels, False)
-    if not e.operands:
-        return None
-    output = "..." + "".join(e.label(key) for key in leg_axes)
-    if e.subscripts == [output]:  # a single batched operand already in layout order, e.g. (p1 - p2)^mu3
-        return e.operands[0]
-    expression = ",".join(e.subscripts) + "->" + output
-    return f"np.einsum({expression!r}, {', '.join(e.operands)}, optimize=True)"
-
-
-def _group_label(e: _Einsum, slot: Slot) -> str:
-    if isinstance(slot, LegGroupIndex):
-        return e.label(("group", slot.leg, slot.group))
-    assert isinstance(slot, GroupDummy)
-    return e.label(("group-dummy", slot.name))
-
-
-def _chain(e: _Einsum, chain: Chain) -> None:
-    start = e.label(("spinor", chain.bar_leg))
-    end = e.label(("spinor", chain.leg))
-    if not chain.matrices:
-        e.add("_ID4", start + end, False)
-        return
-    current = start
-    for k, mat in enumerate(chain.matrices):
-        nxt = end if k == len(chain.matrices) - 1 else e.fresh()
-        if isinstance(mat, Chiral):
-            e.add(_CHIRAL_CODE[mat.kind], current + nxt, False)
-        elif isinstance(mat, Gamma):
-            e.add("_GAMMA", e.slot(mat.slot) + current + nxt, False)
-        elif isinstance(mat, Sigma):
-            e.add("_SIGMA", e.slot(mat.a) + e.slot(mat.b) + current + nxt, False)
-        current = nxt
-
-
-# ------------------------------------------------------------------ functions
-
-def _leg_dims(vertex: Vertex) -> dict[tuple[int, str], int]:
-    return {(leg.position, g): d for leg in vertex.legs for g, _, d in leg.representations}
-
-
-def _axis_sizes(vertex: Vertex) -> list[int]:
-    dims = _leg_dims(vertex)
-    return [dims[(key[1], key[2])] if key[0] == "group" else 4 for leg in vertex.legs for key in leg.axes]
-
-
-def _axes_text(sizes: Sequence[int]) -> str:
-    return f"(..., {', '.join(str(n) for n in sizes)})" if sizes else "(...)"
-
-
-def _describe_axis(key: tuple, name: str, dims: dict[tuple[int, str], int]) -> str:
-    if key[0] == "lorentz":
-        return f"Lorentz axis {name} (upper index)"
-    if key[0] == "spinor":
-        return f"spinor axis {name} (Dirac representation)"
-    return f"{key[2]} axis {name} (size {dims[(key[1], key[2])]})"
-
-
-def _vertex_function(vertex: Vertex, name: str, ranks: dict[str, int]) -> str:
-    legs = vertex.legs
-    momenta = ", ".join(leg.momentum for leg in legs)
-    axes = [key for leg in legs for key in leg.axes]
-    dims = _leg_dims(vertex)
-    sizes = _axis_sizes(vertex)
-    leg_lines = []
-    for leg in legs:
-        what = "; ".join(_describe_axis(key, index, dims) for key, index in zip(leg.axes, leg.indices)) or "no axis"
-        leg_lines.append(f"    leg {leg.position}: {leg.label} ({leg.meaning()}), momentum {leg.momentum}; {what}")
-    doc = [f"Vertex {' '.join(vertex.labels)}: {factor_text(vertex.factor)}", "",
-           "Legs in order (all momenta incoming, arrays of shape (..., 4)):", *leg_lines,
-           f"Returns a complex array of shape {_axes_text(sizes)}."]
-    if vertex.origins:
-        doc.append(f"Lagrangian lines: {', '.join(str(n) for n in vertex.origins)}.")
-    shape = "(" + ", ".join(str(n) for n in sizes) + ("," if len(sizes) == 1 else "") + ")"
-    body = [f"def {name}({momenta}, params=None):",
-            textwrap.indent('"""' + "\n".join(doc) + '\n"""', "    "),
-            "    P = _parameters(params)",
-            f"    {momenta} = _momenta({momenta})",
-            f"    out = np.zeros(p1.shape[:-1] + {shape}, dtype=complex)"]
-    wrap = any(len(t.structure.chains) > 1 for t in vertex.terms)
-    for term in vertex.terms:
-        call = _einsum_call(term.structure, axes, ranks, dims)
-        lorentz = lorentz_to_sympy(term.structure, wrap)
-        group = group_to_sympy(term.structure.group, vertex._index_names())
-        body.append(f"    # {factor_text(term.coefficient)} * {factor_text(lorentz)}"
-                    + (f" * {factor_text(group)}" if group != 1 else ""))
-        coefficient = _code(term.coefficient)
-        body.append(f"    out += ({coefficient}) * {call}" if call else f"    out += {coefficient}")
-    body.append("    return out")
-    return "\n".join(body)
-
-
-def _propagator_function(prop: Propagator, name: str) -> str:
-    sizes = {"dirac": [4, 4], "vector": [4, 4]}.get(prop.kind, []) + [d for _, _, d in prop.representations for _ in (0, 1)]
-    axes = {"dirac": "spinor axes s1, s2 (Dirac representation)", "vector": "Lorentz axes mu, nu (upper indices)"}
-    what = [axes[prop.kind]] if prop.kind in axes else []
-    what += [f"{g} axes (size {d}), a Kronecker delta" for g, _, d in prop.representations]
-    doc = [f"Propagator of {prop.field} ({prop.kind}): {factor_text(prop.factor)}", "",
-           "p: momentum along the particle arrow, array of shape (..., 4).",
-           f"Returns a complex array of shape {_axes_text(sizes)}" + (": " + "; ".join(what) if what else "") + "."]
-    body = [f"def {name}(p, params=None):",
-            textwrap.indent('"""' + "\n".join(doc) + '\n"""', "    "),
-            "    P = _parameters(params)",
-            "    (p,) = _momenta(p)",
-            "    pp = np.einsum('...a,...a->...', p, _lower(p))",
-            "    one = np.ones_like(pp)"]
-    chiral = getattr(prop, "chiral", None)
-    if prop.kind == "dirac" and chiral is not None:
-        left, right = chiral
-        body += [f"    left = ({_code(left)}) * one",
-                 f"    right = ({_code(right)}) * one",
-                 "    out = (left[..., None, None] * _PL + right[..., None, None] * _PR) @ _slash(p)"]
-    elif prop.kind == "dirac":
-        body += [f"    a = ({_code(prop.a)}) * one",
-                 f"    b = ({_code(prop.b)}) * one",
-                 "    out = a[..., None, None] * _slash(p) + b[..., None, None] * _ID4"]
-    elif prop.kind == "vector":
-        body += [f"    a = ({_code(prop.a)}) * one",
-                 f"    b = ({_code(prop.b)}) * one",
-                 "    out = a[..., None, None] * _METRIC + b[..., None, None] * p[..., :, None] * p[..., None, :]"]
-    else:
-        body.append(f"    out = ({_code(prop.a)}) * one")
-    for _, _, dim in prop.representations:
-        body.append(f"    out = out[..., None, None] * _delta({dim})")
-    body.append("    return out")
-    return "\n".join(body)
 
 
 # ------------------------------------------------------------------ tables
@@ -386,7 +131,9 @@ def _parameters_block(rules: Rules) -> str:
             continue
         lines.append(f"    {name!r}: {_number(number)},  # {note}")
     for xi, boson in _gauge_symbols(rules):
-        lines.append(f"    {xi!r}: 1.0,  # gauge parameter of {boson} (R_xi); 1 is Feynman gauge")
+        # the same policy as vertex.evaluate(): a gauge parameter has no default, the caller gives it
+        lines.append(f"    # {xi!r}: no default, the gauge parameter of {boson} (R_xi): pass it in params "
+                     "(1 is Feynman gauge)")
     lines.append("}")
     names = list(model.parameters) + [xi for xi, _ in _gauge_symbols(rules)]
     lines.append("")
@@ -399,7 +146,7 @@ def _parameters_block(rules: Rules) -> str:
     for name in derived:
         definition = model.parameters[name].definition
         assert definition is not None  # _definition_order lists defined parameters only
-        lines.append(f"    ({name!r}, lambda P: {_code(definition)}),")
+        lines.append(f"    ({name!r}, lambda P: {coefficient_code(definition)}),")
     lines.append(")")
     return "\n".join(lines)
 
@@ -439,114 +186,6 @@ def _conventions_block(rules: Rules) -> str:
     lines.append("}")
     return "\n".join(lines)
 
-
-_HELPERS = '''
-# ------------------------------------------------------------------ Dirac matrices and helpers
-
-_METRIC = np.diag([1.0, -1.0, -1.0, -1.0]).astype(complex)
-_METRIC_DIAGONAL = np.array([1.0, -1.0, -1.0, -1.0])
-_PAULI = (np.array([[0, 1], [1, 0]], dtype=complex), np.array([[0, -1j], [1j, 0]], dtype=complex),
-          np.array([[1, 0], [0, -1]], dtype=complex))
-_I2, _Z2 = np.eye(2, dtype=complex), np.zeros((2, 2), dtype=complex)
-# gamma^mu with an upper index, Dirac representation
-_GAMMA = np.array([np.block([[_I2, _Z2], [_Z2, -_I2]])] + [np.block([[_Z2, s], [-s, _Z2]]) for s in _PAULI])
-_GAMMA5 = 1j * _GAMMA[0] @ _GAMMA[1] @ _GAMMA[2] @ _GAMMA[3]
-_ID4 = np.eye(4, dtype=complex)
-_PL = (_ID4 - _GAMMA5) / 2
-_PR = (_ID4 + _GAMMA5) / 2
-_SIGMA = 0.5j * (np.einsum("mij,njk->mnik", _GAMMA, _GAMMA) - np.einsum("nij,mjk->mnik", _GAMMA, _GAMMA))
-
-
-def _levi_civita(eps0123):
-    eps = np.zeros((4, 4, 4, 4), dtype=complex)
-    for perm in itertools.permutations(range(4)):
-        inversions = sum(1 for i in range(4) for j in range(i + 1, 4) if perm[i] > perm[j])
-        eps[perm] = eps0123 * (-1) ** inversions
-    return eps
-
-
-_EPS = _levi_civita(CONVENTIONS["eps0123"])  # epsilon^{mu nu rho sigma}, all indices upper
-
-
-def _su_generators(n):
-    """T^a of SU(n): generalised Gell-Mann matrices / 2, Tr(T^a T^b) = delta^{ab}/2, shape (n^2 - 1, n, n)."""
-    mats = []
-    for k in range(1, n):
-        for j in range(k):
-            sym = np.zeros((n, n), dtype=complex)
-            sym[j, k] = sym[k, j] = 0.5
-            asym = np.zeros((n, n), dtype=complex)
-            asym[j, k], asym[k, j] = -0.5j, 0.5j
-            mats += [sym, asym]
-        diag = np.zeros((n, n), dtype=complex)
-        for i in range(k):
-            diag[i, i] = 1.0
-        diag[k, k] = -k
-        mats.append(diag / np.sqrt(2 * k * (k + 1)))
-    return np.array(mats)
-
-
-def _su_structure_constants(n):
-    """f^{abc} = -2 i Tr([T^a, T^b] T^c)."""
-    t = _su_generators(n)
-    commutator = np.einsum("aij,bjk->abik", t, t) - np.einsum("bij,ajk->abik", t, t)
-    return (-2j * np.einsum("abik,cki->abc", commutator, t)).real.astype(complex)
-
-
-def _su_alternating(n):
-    """epsilon_{i1...in} of SU(n), epsilon_{12...n} = +1."""
-    eps = np.zeros((n,) * n, dtype=complex)
-    for perm in itertools.permutations(range(n)):
-        inversions = sum(1 for a in range(n) for b in range(a + 1, n) if perm[a] > perm[b])
-        eps[perm] = -1.0 if inversions % 2 else 1.0
-    return eps
-
-
-_T = {name: _su_generators(n) for name, n in GROUPS.items() if n > 1}
-_ALT = {name: _su_alternating(n) for name, n in GROUPS.items() if 1 < n <= 6}
-_F = {name: _su_structure_constants(n) for name, n in GROUPS.items() if n > 1}
-
-
-def _delta(n):
-    return np.eye(n, dtype=complex)
-
-
-class _Parameters(dict):
-    def __missing__(self, name):
-        raise KeyError(f"no value for the parameter {name!r}: pass params={{{name!r}: ...}}")
-
-
-def _parameters(params):
-    """The model's numbers, overridden by `params`; parameters defined through others follow them."""
-    given = dict(params or {})
-    unknown = sorted(set(given) - set(PARAMETER_NAMES))
-    if unknown:
-        raise KeyError(f"unknown parameter(s) {', '.join(unknown)}; the parameters are {', '.join(PARAMETER_NAMES)}")
-    P = _Parameters({name: complex(value) for name, value in PARAMETERS.items()})
-    P.update({name: complex(value) for name, value in given.items()})
-    for name, definition in _DEFINITIONS:
-        if name not in given:
-            P[name] = complex(definition(P))
-    return P
-
-
-def _momenta(*momenta):
-    arrays = [np.asarray(p, dtype=complex) for p in momenta]
-    for k, p in enumerate(arrays):
-        if p.ndim == 0 or p.shape[-1] != 4:
-            raise ValueError(f"momentum {k + 1} must have shape (..., 4), got {p.shape}")
-    return np.broadcast_arrays(*arrays)
-
-
-def _lower(p):
-    """p_mu from p^mu (metric (+,-,-,-)), batched over the leading axes."""
-    return p * _METRIC_DIAGONAL
-
-
-def _slash(p):
-    """p-slash = gamma^mu p_mu, shape (..., 4, 4)."""
-    return np.einsum("...m,mij->...ij", _lower(p), _GAMMA)
-'''
 
 _FIND = '''
 def find_vertex(*labels):
@@ -632,7 +271,7 @@ def _module_docstring(rules: Rules, vertex_names: list[str], propagator_names: l
                 import {model.name}_rules as rules   # written by: vertexsmith export {model.name} --to python -o {model.name}_rules.py
                 rng = np.random.default_rng(1)
                 {", ".join(leg.momentum for leg in v.legs)} = (rng.normal(size=(5, 4)) for _ in range({len(v.legs)}))
-                factor = rules.{vertex_names[0]}({args})                 # shape {_axes_text(_axis_sizes(v)).replace("...", "5")}
+                factor = rules.{vertex_names[0]}({args})                 # shape {axes_text(axis_sizes(v)).replace("...", "5")}
                 factor = rules.{vertex_names[0]}({args}, params={{...}})  # other parameter values
                 same = rules.find_vertex({", ".join(repr(label) for label in v.labels)})  # legs in any order
             """)
@@ -693,15 +332,15 @@ def render_python_module(rules: Rules) -> str:
              _parameters_block(rules),
              "",
              _fields_block(rules),
-             _HELPERS,
+             HELPERS_SOURCE,
              "",
              "# ------------------------------------------------------------------ vertices"]
     ranks = {g.name: getattr(g, "rank", 1) for g in rules.model.groups.values()}
     for vertex, name in zip(rules.vertices, vertex_names):
-        parts += ["", "", _vertex_function(vertex, name, ranks)]
+        parts += ["", "", vertex_function_source(vertex, name, ranks)]
     parts += ["", "", "# ------------------------------------------------------------------ propagators"]
     for prop, name in zip(rules.propagators, propagator_names):
-        parts += ["", "", _propagator_function(prop, name)]
+        parts += ["", "", propagator_function_source(prop, name)]
     parts += ["", "", "# ------------------------------------------------------------------ tables", ""]
     parts.append("SYMBOLIC = {")
     for vertex, name in zip(rules.vertices, vertex_names):
