@@ -71,11 +71,24 @@ def test_rich_tables_list_every_vertex(rules):
         assert re.search(rf"^\s*{re.escape(p.field)}\s+│", text, flags=re.M)
 
 
-def test_rich_vertex_table_keeps_brackets_of_the_factor():
-    # brackets such as [g^μν ...] are text, not style markup (they would vanish)
+def test_rich_vertex_table_keeps_brackets_and_shows_the_factor():
+    # brackets in labels and factors are text, not style markup (rich would swallow them)
     g4 = vs.load_model(vs.example("qcd")).derive().vertex("G", "G", "G", "G")
-    text = _rich_text(g4)
-    assert text.count("[") == 3 and "meaning" in text and text.count("G in or out") == 4
+    text = _rich_text(g4, width=2000)
+    assert "meaning" in text and text.count("G in or out") == 4
+    assert "".join(("factor: " + str(g4.factor)).split()) in "".join(text.split())  # the caption wraps
+    assert "[bold]" in _rich_text(_cells_probe("[bold]"))
+
+
+def _cells_probe(value: str):
+    from vertexsmith.render.notebook import _cells
+
+    from rich.table import Table
+
+    table = Table()
+    table.add_column("x")
+    table.add_row(*_cells(value))
+    return table
 
 
 # ------------------------------------------------------------------ progress

@@ -3,7 +3,7 @@
 Jupyter asks an object for `_repr_html_` and `_repr_latex_`; rich asks for `__rich__`. The
 `Rules`, `Vertex` and `Propagator` classes answer with the functions here: HTML tables with the
 pictures and MathML factors of the report page (`cards.py`), LaTeX arrays with the legs and
-factors, and rich tables with the factors in the terminal's own notation. Every vertex and every
+factors, and rich tables with the factors as sympy prints them. Every vertex and every
 propagator appears in each of them; nothing is left out for length.
 """
 
@@ -96,20 +96,16 @@ def rules_latex(rules: "Rules") -> str:
 # ------------------------------------------------------------------ rich (terminal)
 
 def _factor_text(expr: Any) -> str:
-    try:
-        from .text import unicode_str
-    except ImportError:  # the terminal renderer may be reorganised: plain sympy text will do
-        return str(expr)
-    return str(unicode_str(expr))
+    """The factor as sympy prints it, in the vocabulary the JSON and the Python API use.
+
+    Not the terminal renderer's notation: `rules` (below the renderers) calls this module, and
+    the terminal renderer reads `rules`, so reaching it from here would close an import circle.
+    """
+    return str(expr)
 
 
 def _vertex_text(vertex: "Vertex") -> str:
-    """The factor as the terminal table prints it (one line; rich wraps it to the column)."""
-    try:
-        from .text import vertex_text
-    except ImportError:
-        return _factor_text(vertex.factor)
-    return str(vertex_text(vertex, 10_000))
+    return _factor_text(vertex.factor)
 
 
 def _cells(*values: str) -> list[Any]:
