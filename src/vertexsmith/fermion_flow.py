@@ -14,6 +14,15 @@ from __future__ import annotations
 
 from typing import Sequence, TypeVar
 
+# stated wherever a model has Majorana fields (fermion flow: Denner, Eck, Hahn & Kuebbeck,
+# Nucl. Phys. B 387 (1992) 467)
+FERMION_FLOW_TEXT = (
+    "Majorana legs follow a fermion flow: bar(chi) is where the flow leaves the vertex, chi where it "
+    "enters; read against the flow a vertex takes Gamma' = C Gamma^T C^-1 with C = i gamma^2 gamma^0 "
+    "(S, P, A unchanged; V, T change sign); a Majorana propagator is i(pslash + m)/(p^2 - m^2) with p "
+    "along the flow; diagrams take the sign of the permutation of their external spinors"
+)
+
 # the sign each Dirac matrix of the model language takes under C M^T C^-1
 REVERSAL_SIGN = {"gamma": -1, "sigma": -1, "gamma5": 1, "PL": 1, "PR": 1}
 
@@ -36,4 +45,4 @@ def charge_conjugation_matrix():  # noqa: ANN201 - a numpy array, imported lazil
     return 1j * GAMMA[2] @ GAMMA[0]
 
 
-__all__ = ["REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]
+__all__ = ["FERMION_FLOW_TEXT", "REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]

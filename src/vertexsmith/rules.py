@@ -18,6 +18,7 @@ import sympy
 
 from .errors import UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
+from .fermion_flow import FERMION_FLOW_TEXT
 from .numeric import GAMMA, lower
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (factor_text, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
@@ -34,14 +35,6 @@ CONVENTIONS_TEXT = (
     "sigma^{mu nu} = (i/2)[gamma^mu, gamma^nu]; PL = (1 - gamma5)/2, PR = (1 + gamma5)/2; "
     "gamma5 = i gamma^0 gamma^1 gamma^2 gamma^3; propagator = i x inverse of the quadratic kernel, "
     "momentum p along the particle arrow"
-)
-# stated wherever a model has Majorana fields (fermion flow: Denner, Eck, Hahn & Kuebbeck,
-# Nucl. Phys. B 387 (1992) 467)
-FERMION_FLOW_TEXT = (
-    "Majorana legs follow a fermion flow: bar(chi) is where the flow leaves the vertex, chi where it "
-    "enters; read against the flow a vertex takes Gamma' = C Gamma^T C^-1 with C = i gamma^2 gamma^0 "
-    "(S, P, A unchanged; V, T change sign); a Majorana propagator is i(pslash + m)/(p^2 - m^2) with p "
-    "along the flow; diagrams take the sign of the permutation of their external spinors"
 )
 
 

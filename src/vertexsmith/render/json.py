@@ -26,7 +26,7 @@ from typing import TYPE_CHECKING, Any
 
 import sympy
 
-from ..rules import FERMION_FLOW_TEXT
+from ..fermion_flow import FERMION_FLOW_TEXT
 from ..symbolic import factor_text, to_latex
 
 if TYPE_CHECKING:
