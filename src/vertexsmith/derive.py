@@ -20,7 +20,7 @@ import sympy
 from . import model as m
 from . import progress
 from .errors import DerivationError, UsageError
-from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom
+from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom, is_plain_product
 from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
@@ -339,7 +339,7 @@ def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.
         total[structure] = total.get(structure, sympy.Integer(0)) + coefficient
     out = []
     for structure, coefficient in total.items():
-        c = sympy.factor(sympy.expand(coefficient))
+        c = coefficient if is_plain_product(coefficient) else sympy.factor(sympy.expand(coefficient))
         if c != 0:
             out.append((c, structure))
     return out

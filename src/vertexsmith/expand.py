@@ -478,10 +478,22 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
             combined[key] = combined.get(key, sympy.Integer(0)) + p.coefficient * factor
     out = []
     for atoms, coefficient in combined.items():
-        coefficient = sympy.expand(coefficient)
+        if not is_plain_product(coefficient):
+            coefficient = sympy.expand(coefficient)
         if coefficient != 0:
             out.append(Monomial(coefficient, atoms, term.span))
     return out
+
+
+def is_plain_product(expr: sympy.Expr) -> bool:
+    """A rational number, i, symbols and positive integer powers of symbols, multiplied: `-3 i g**2/4`.
+
+    Such a coefficient is already what expand() and factor() would return, so both are skipped
+    for it (they cost more than the rest of a vertex's derivation).
+    """
+    factors = expr.args if isinstance(expr, sympy.Mul) else (expr,)
+    return all(f.is_Rational or f is sympy.I or f.is_Symbol
+               or (f.is_Pow and f.base.is_Symbol and f.exp.is_Integer and f.exp > 0) for f in factors)
 
 
 def expand_model(model: m.Model) -> tuple[Monomial, ...]:

@@ -125,6 +125,15 @@ class CouplingPart:
     group: sympy.Expr
     terms: tuple[VertexTerm, ...]
 
+    @cached_property
+    def latex_pieces(self) -> tuple[str, str, str]:
+        """LaTeX of the coupling, the Lorentz and the group structure, each printed once.
+
+        The factor's LaTeX and the JSON's parts share them: printing LaTeX is the dearest step of
+        writing rules out.
+        """
+        return to_latex(self.coupling), to_latex(self.lorentz), to_latex(self.group)
+
 
 class _Values(dict):
     """Parameter values by name for the compiled functions; a missing one is the caller's to give."""
@@ -186,7 +195,9 @@ class Vertex:
         groups: list[tuple[sympy.Expr, list[tuple[sympy.Expr, VertexTerm]]]] = []
         for term in self.terms:
             for base, members in groups:
-                ratio = sympy.nsimplify(sympy.simplify(term.coefficient / base))
+                ratio = term.coefficient / base
+                if not ratio.is_Rational:  # only a ratio sympy did not reduce by itself needs simplify
+                    ratio = sympy.nsimplify(sympy.simplify(ratio))
                 if ratio.is_Rational:
                     members.append((ratio, term))
                     break
@@ -224,7 +235,7 @@ class Vertex:
         """The factor in the output vocabulary (the model language: gamma[mu3], g[mu1,mu2], ...)."""
         return factor_text(self.factor)
 
-    @property
+    @cached_property
     def latex(self) -> str:
         return " + ".join(_part_latex(p) for p in self.parts).replace("+ -", "- ")
 
@@ -282,18 +293,16 @@ class Vertex:
 
 
 def _part_latex(part: CouplingPart) -> str:
-    coupling = to_latex(part.coupling)
+    coupling, lorentz, group = part.latex_pieces
     if part.group != 1:
-        group = to_latex(part.group)
         coupling = (f"\\left({coupling}\\right)" if isinstance(part.coupling, sympy.Add) else coupling)
         coupling = group if part.coupling == 1 else f"{coupling} \\, {group}"
         if part.lorentz == 1:
             return coupling
-        return f"{coupling} \\, " + (f"\\left[{to_latex(part.lorentz)}\\right]" if isinstance(part.lorentz, sympy.Add)
-                                      else to_latex(part.lorentz))
+        return f"{coupling} \\, " + (f"\\left[{lorentz}\\right]" if isinstance(part.lorentz, sympy.Add)
+                                      else lorentz)
     if part.lorentz == 1:
         return coupling
-    lorentz = to_latex(part.lorentz)
     if isinstance(part.coupling, sympy.Add):
         coupling = f"\\left({coupling}\\right)"
     if isinstance(part.lorentz, sympy.Add):
@@ -368,7 +377,7 @@ class Propagator:
         """The factor in the output vocabulary (the model language: slash(p), g[mu,nu], p^2, ...)."""
         return factor_text(self.factor)
 
-    @property
+    @cached_property
     def latex(self) -> str:
         return to_latex(self.factor)
 

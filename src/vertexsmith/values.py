@@ -32,8 +32,10 @@ def resolve_values_from(parameters: Mapping[str, "Parameter"],
         for p in parameters.values():
             if p.symbol in values or p.definition is None:
                 continue
-            if p.definition.free_symbols <= set(values):
-                own = {s: values[s] for s in p.definition.free_symbols}
+            symbols = p.definition.free_symbols
+            # a membership test per symbol: rebuilding set(values) here made loading quadratic
+            if all(s in values for s in symbols):
+                own = {s: values[s] for s in symbols}
                 result = (p.definition.subs(own) if own else p.definition).evalf()
                 try:
                     number = complex(result)

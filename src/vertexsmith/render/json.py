@@ -31,7 +31,7 @@ from ..symbolic import factor_text, to_latex
 
 if TYPE_CHECKING:
     from ..model import Field, GaugeGroup, Model, Parameter
-    from ..rules import Leg, Propagator, Rules, Vertex
+    from ..rules import CouplingPart, Leg, Propagator, Rules, Vertex
 
 # 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy")
 FORMAT_VERSION = "2.0"
@@ -149,10 +149,17 @@ def _vertex(v: "Vertex") -> dict[str, Any]:
     return {
         "legs": [_leg(leg) for leg in v.legs],
         "factor": {"text": factor_text(v.factor), "latex": v.latex},
-        "parts": [{"coupling": _symbolic(part.coupling), "lorentz": _symbolic(part.lorentz),
-                   "group": _symbolic(getattr(part, "group", sympy.Integer(1)))} for part in v.parts],
+        "parts": [_part(part) for part in v.parts],
         "origins": list(v.origins),
     }
+
+
+def _part(part: "CouplingPart") -> dict[str, Any]:
+    # the LaTeX the vertex's own LaTeX was written from: each piece is printed once per render
+    coupling, lorentz, group = part.latex_pieces
+    return {"coupling": {"text": factor_text(part.coupling), "latex": coupling},
+            "lorentz": {"text": factor_text(part.lorentz), "latex": lorentz},
+            "group": {"text": factor_text(part.group), "latex": group}}
 
 
 def _gauge_parameter(model: "Model", p: "Propagator") -> str | None:
