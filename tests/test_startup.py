@@ -149,3 +149,20 @@ def test_a_cache_folder_that_cannot_be_made_only_costs_time(tmp_path: Path):
     blocker.write_text("not a folder", encoding="utf-8")
     assert _parse_in_fresh_process(str(blocker / "cache")) == "quantum electrodynamics with electron and muon"
     assert blocker.read_text(encoding="utf-8") == "not a folder"
+
+
+def test_printing_rules_needs_no_numpy():
+    code = ("import contextlib, io\nfrom vertexsmith.cli import main\n"
+            "with contextlib.redirect_stdout(io.StringIO()):\n"
+            "    for fmt in ('text', 'json', 'latex'):\n"
+            "        assert main(['rules', 'qed', '--format', fmt]) == 0")
+    loaded = _imported_after(code)
+    assert "numpy" not in loaded and "sympy" in loaded
+
+
+def test_numbers_still_come_when_asked_for():
+    from vertexsmith.rules import GAMMA, lower
+
+    rules = vertexsmith.load_model(vertexsmith.example("qed")).derive(gauge="feynman")
+    assert rules.vertex("bar(ele)", "ele", "A").evaluate([[1, 0, 0, 0]] * 3).shape == (4, 4, 4)
+    assert GAMMA.shape == (4, 4, 4) and callable(lower)

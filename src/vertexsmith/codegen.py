@@ -19,7 +19,6 @@ import textwrap
 from fractions import Fraction
 from typing import TYPE_CHECKING, Any, Callable, Sequence
 
-import numpy as np
 import sympy
 from sympy.printing.numpy import NumPyPrinter
 
@@ -28,6 +27,8 @@ from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, G
 from .symbolic import factor_text, group_to_sympy, lorentz_to_sympy
 
 if TYPE_CHECKING:
+    import numpy as np
+
     from .rules import Propagator, Vertex
 
 # stands for p.p in propagator coefficients (the same symbol as rules.P2)
@@ -467,6 +468,8 @@ def helper_namespace(eps0123: int, ranks: dict[str, int]) -> dict[str, Any]:
     """
     key = (eps0123, tuple(sorted(ranks.items())))
     if key not in _HELPER_NAMESPACES:
+        import numpy as np  # here, not at the top: printing rules imports this module and needs no numpy
+
         namespace: dict[str, Any] = {"np": np, "itertools": itertools, "CONVENTIONS": {"eps0123": eps0123},
                                      "GROUPS": dict(ranks), "PARAMETERS": {}, "PARAMETER_NAMES": (),
                                      "_DEFINITIONS": ()}

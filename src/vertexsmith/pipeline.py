@@ -17,16 +17,18 @@ from __future__ import annotations
 
 import dataclasses
 from pathlib import Path
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
 from . import model as m
 from .build import build_model
-from .check import Diagnostic, check_model
 from .derive import derive_rules
 from .errors import Source, UsageError, VertexsmithError
 from .expand import Monomial, expand_model
 from .parse import parse_text
 from .rules import Rules
+
+if TYPE_CHECKING:
+    from .check import Diagnostic
 
 ModelStage = Callable[[m.Model], m.Model]
 # stages between build and expand, applied in this order (empty until symmetry breaking arrives)
@@ -82,6 +84,8 @@ def derive(model: m.Model, gauge: str = "xi") -> Rules:
 
 def check(model: m.Model) -> list[Diagnostic]:
     """Every diagnostic of a model (never raises for a problem of the model itself)."""
+    from .check import check_model  # numpy with it: deriving and printing rules do not need either
+
     return check_model(prepare_model(model))
 
 

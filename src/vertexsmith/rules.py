@@ -13,18 +13,18 @@ from dataclasses import dataclass, replace
 from functools import cached_property
 from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
-import numpy as np
 import sympy
 
 from .errors import UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
 from .fermion_flow import FERMION_FLOW_TEXT
-from .numeric import GAMMA, lower
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (factor_text, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
+    import numpy as np
+
     from .model import GaugeGroup, Model
 
 CONVENTIONS_TEXT = (
@@ -166,6 +166,8 @@ def _values_for(model: "Model", values: Mapping[str, complex] | None, what: str,
 
 def _batch(momenta: Sequence[Sequence[float]] | np.ndarray, legs: int, what: str) -> np.ndarray:
     """Momenta as a complex array of shape (..., legs, 4), checked."""
+    import numpy as np  # numbers only when asked for: deriving and printing rules need no numpy
+
     try:
         p = np.asarray(momenta, dtype=complex)
     except (TypeError, ValueError):
@@ -269,6 +271,8 @@ class Vertex:
         `momenta` of shape (legs, 4) gives the layout shape; a batch of shape (..., legs, 4) gives
         (..., layout), all points in one call. The first call compiles the vertex to numpy code.
         """
+        import numpy as np
+
         what = "vertex " + " ".join(self.labels)
         p = _batch(momenta, len(self.legs), what)
         return self._compiled(*np.moveaxis(p, -2, 0), _values_for(self.model, values, what, self._value_cache))
@@ -408,6 +412,8 @@ class Propagator:
 
         A batch of momenta of shape (..., 4) gives (..., axes), all points in one call.
         """
+        import numpy as np
+
         what = f"propagator {self.field}"
         try:
             momentum = np.asarray(p, dtype=complex)
@@ -424,8 +430,12 @@ class Propagator:
 
 
 def _over_common_denominator(parts: list[tuple[sympy.Expr, sympy.Expr]]) -> sympy.Expr:
-    """sum a_k X_k written as (sum n_k X_k) / d when the coefficients share their denominator."""
-    fractions = [sympy.fraction(sympy.factor(a)) for a, _ in parts]
+    """sum a_k X_k written as (sum n_k X_k) / d when the coefficients share their denominator.
+
+    The coefficients come factored from derive (factoring is the dearest step of a propagator and
+    is done once, there): their numerators and denominators are read off as they stand.
+    """
+    fractions = [sympy.fraction(a) for a, _ in parts]
     denominators = {d for (n, d), _ in zip(fractions, parts) if n != 0}
     if len(denominators) != 1:
         return sympy.Add(*[a * x for a, x in parts])
@@ -506,6 +516,8 @@ class Rules:
         if representation == "fundamental":
             return t.copy()
         if representation == "antifundamental":
+            import numpy as np
+
             return -np.transpose(t, (0, 2, 1))
         if representation == "adjoint":
             return -1j * self.structure_constants(group)
@@ -559,6 +571,15 @@ class Rules:
         from .render.notebook import rules_rich
 
         return rules_rich(self)
+
+
+def __getattr__(name: str) -> object:
+    # GAMMA and lower were always importable from here; numpy is imported when they are asked for
+    if name in ("GAMMA", "lower"):
+        from . import numeric
+
+        return getattr(numeric, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 __all__ = ["Leg", "Vertex", "VertexTerm", "CouplingPart", "Propagator", "Rules", "CONVENTIONS_TEXT", "P", "P2",
