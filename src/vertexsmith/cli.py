@@ -39,7 +39,7 @@ EXIT_USAGE = 2
 PROG = "vertexsmith"
 # modules that contribute subcommands; each has add_command(subparsers) and is cheap to import
 # (standard library and `errors` only at module level: the engine is imported when the command runs)
-PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare_command", "vertexsmith.report")
+PLUGIN_MODULES = ("vertexsmith.export", "vertexsmith.compare_command", "vertexsmith.report", "vertexsmith.cli_physics")
 
 
 # ------------------------------------------------------------------ helpers shared by the commands
