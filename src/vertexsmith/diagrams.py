@@ -30,7 +30,7 @@ if TYPE_CHECKING:
     from .process import Process
     from .rules import Rules
 
-MAX_STEPS = 3_000_000  # pairing steps before the census gives up (a budget, not a timeout)
+MAX_STEPS = 150_000  # pairing steps before the census gives up (a budget: seconds of work, not minutes)
 
 
 @dataclass(frozen=True)

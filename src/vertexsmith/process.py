@@ -129,11 +129,14 @@ def _state(model: "Model", text: str, match: "re.Match[str]", start: int, incomi
            physical: list[str]) -> State:
     wrapper, name = (match.group(2), match.group(3)) if match.group(2) else (None, match.group(4))
     end = match.end()
+    name_start, name_end = match.span(3) if wrapper else match.span(4)
+    start = match.start(2) if wrapper else name_start
     field = model.fields.get(name)
     if field is None or field.kind == "ghost":
         what = "a ghost, not an external state" if field is not None else "not a field of this model"
-        raise _fail(text, start, end, f"'{name}' is {what}",
-                    did_you_mean(name, physical, "") + f" the model's fields are: {', '.join(physical)}")
+        close = did_you_mean(name, physical, "")
+        raise _fail(text, name_start, name_end, f"'{name}' is {what}",
+                    (close + "; " if close else "") + f"the model's fields are: {', '.join(physical)}")
     if wrapper is not None:
         wanted = "bar" if field.kind == "dirac" else "dag"
         if not field.is_complex and field.kind != "dirac":
@@ -147,7 +150,9 @@ def _state(model: "Model", text: str, match: "re.Match[str]", start: int, incomi
     return State(label, name, wrapper is not None, incoming, field.kind, field.is_complex or field.kind == "dirac", reps)
 
 
-def _check_charges(model: "Model", process: Process, arrow_at: int) -> None:
+def charge_balance(model: "Model", process: Process) -> list[tuple[str, Fraction, Fraction]]:
+    """Each abelian charge that the process does not conserve: (group, total in, total out)."""
+    out = []
     for group in sorted(model.groups.values(), key=lambda g: g.name):
         if not group.abelian:
             continue
@@ -156,10 +161,16 @@ def _check_charges(model: "Model", process: Process, arrow_at: int) -> None:
             charge = model.fields[state.field].charge(group.name)
             total[state.incoming] += -charge if state.anti else charge
         if total[True] != total[False]:
-            raise _fail(process.text, arrow_at, arrow_at + 2,
-                        f"the process does not conserve the charge of '{group.name}': "
-                        f"{_fraction(total[True])} in, {_fraction(total[False])} out",
-                        "check which states are particles and which antiparticles (bar()/dag())")
+            out.append((group.name, total[True], total[False]))
+    return out
+
+
+def _check_charges(model: "Model", process: Process, arrow_at: int) -> None:
+    for name, charge_in, charge_out in charge_balance(model, process)[:1]:
+        raise _fail(process.text, arrow_at, arrow_at + 2,
+                    f"the process does not conserve the charge of '{name}': "
+                    f"{_fraction(charge_in)} in, {_fraction(charge_out)} out",
+                    "check which states are particles and which antiparticles (bar()/dag())")
 
 
 def _fraction(value: Fraction) -> str:
