@@ -15,9 +15,10 @@ from typing import TYPE_CHECKING, Callable, Sequence
 import numpy as np
 import sympy
 
-from .groups import su_generators, su_structure_constants
+from .groups import su_alternating, su_generators, su_structure_constants
 from .numeric import _CHIRAL, GAMMA, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupDummy, LegGroupIndex,
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
+                         GroupDummy, LegGroupIndex,
                          LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
 
 if TYPE_CHECKING:
@@ -91,7 +92,11 @@ def _structure(structure: Structure, leg_axes: Sequence[tuple], p: np.ndarray, e
             operands.append(su_structure_constants(n).astype(complex))
         elif isinstance(g, Generator):
             operands.append(su_generators(n))
+        elif isinstance(g, GroupAlternating):
+            operands.append(su_alternating(n))
         else:
+            # a new kind of group tensor must be added here: never evaluate it as a delta by default
+            assert isinstance(g, GroupDelta), f"no numeric form for {type(g).__name__}"
             first = g.slots_[0]
             dim = leg_dims.get((first.leg, first.group), n) if isinstance(first, LegGroupIndex) else n
             operands.append(np.eye(dim, dtype=complex))

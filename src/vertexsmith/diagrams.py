@@ -49,6 +49,10 @@ class Diagram:
     sign: int
 
 
+class MajoranaLinesUnsupported(UsageError):
+    """A diagram would need a Majorana fermion line: fermion flow is not handled by the census yet."""
+
+
 @dataclass(frozen=True)
 class _Slots:
     """The labels the generator works with: per vertex type its leg labels; the conjugate map."""
@@ -56,20 +60,24 @@ class _Slots:
     types: tuple[tuple[str, ...], ...]
     conjugate: dict[str, str]
     grassmann: frozenset[str]
+    majorana: frozenset[str] = frozenset()
 
 
 def _slots_of(rules: "Rules") -> _Slots:
     conjugate: dict[str, str] = {}
     grassmann: set[str] = set()
+    majorana: set[str] = set()
     for name, field in rules.model.fields.items():
-        if field.kind in ("dirac", "ghost"):
+        if field.kind == "majorana":
+            majorana.update((name, f"bar({name})"))
+        if field.kind in ("dirac", "ghost", "majorana"):
             conjugate[name], conjugate[f"bar({name})"] = f"bar({name})", name
             grassmann.update((name, f"bar({name})"))
         elif field.is_complex:
             conjugate[name], conjugate[f"dag({name})"] = f"dag({name})", name
         else:
             conjugate[name] = name
-    return _Slots(tuple(v.labels for v in rules.vertices), conjugate, frozenset(grassmann))
+    return _Slots(tuple(v.labels for v in rules.vertices), conjugate, frozenset(grassmann), frozenset(majorana))
 
 
 def find_diagrams(rules: "Rules", process: "Process", loops: int = 0, *, external_self_energies: bool = True,
@@ -144,6 +152,12 @@ def _pairings(slots: _Slots, ends: list[str], target: int) -> Iterator[tuple[lis
                 yield list(nodes), dict(partner)
             return
         node, leg = here
+        if labels[node][leg] in slots.majorana:
+            name = labels[node][leg].removeprefix("bar(").removesuffix(")")
+            raise MajoranaLinesUnsupported(
+                f"diagrams with a line of the Majorana field '{name}' are not supported yet",
+                hint="the census, the amplitudes and verify handle Dirac fermions, scalars, vectors and ghosts; "
+                     "choose a process without that field's lines")
         wanted = slots.conjugate[labels[node][leg]]
         if node >= n:  # a vertex leg may end on an external state
             for j in range(n):

@@ -20,7 +20,7 @@ import numpy as np
 import sympy
 
 from .amplitudes import Amplitude, amplitude
-from .diagrams import find_diagrams
+from .diagrams import MajoranaLinesUnsupported, find_diagrams
 from .errors import UsageError
 from .kinematics import phase_space, random_lorentz
 from .process import Process, State, parse_process
@@ -254,7 +254,11 @@ def default_processes(rules: "Rules", max_mass: float | None = None, limit: int 
             if key in seen or charge_balance(rules.model, process):
                 continue
             seen.add(key)
-            if find_diagrams(rules, process, 0):
+            try:
+                found = find_diagrams(rules, process, 0)
+            except MajoranaLinesUnsupported:
+                continue  # left out of the default set, and said so in the README
+            if found:
                 out.append(text)
                 if len(out) >= limit:
                     return out
