@@ -357,6 +357,27 @@ def bench_evaluate() -> None:
     print()
 
 
+def bench_invariance(repeats: int) -> None:
+    print("(h) symmetry checks (SU(N) contractions, global charges) against derive + check, every shipped model,",
+          "in process, median of", repeats)
+    from vertexsmith._resources import shipped_models
+    from vertexsmith.check import check_model
+    from vertexsmith.invariance import find_violations
+
+    rows = []
+    for path in shipped_models():
+        model = vs.load_model(path)
+        monomials = model.monomials()
+        derive = _median_time(model.derive, repeats)
+        check = _median_time(lambda: check_model(model), repeats)
+        symmetry = _median_time(lambda: find_violations(model, monomials), repeats)
+        share = symmetry / (derive + check)
+        rows.append((path.stem, str(len(monomials)), f"{derive:.3f}", f"{check:.3f}", f"{symmetry * 1e3:.2f}",
+                     f"{share:.1%}", "ok" if share <= 0.10 else "SLOW"))
+    print(_table(("model", "monomials", "derive s", "check s", "symmetry ms", "share", "<= 10 %"), rows))
+    print()
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--profile", action="store_true", help="profile load_model() and derive() on the largest generated model")
@@ -365,8 +386,12 @@ def main(argv: list[str] | None = None) -> int:
                         help="Lagrangian lines of the generated models (default 50 200 1000)")
     parser.add_argument("--points", type=int, default=100_000,
                         help="phase-space points for the exported-module benchmark (default 100000)")
+    parser.add_argument("--only", choices=("invariance",), help="run one section only")
     args = parser.parse_args(argv)
     print_machine()
+    if args.only == "invariance":
+        bench_invariance(args.repeats)
+        return 0
     bench_cli(args.repeats)
     bench_generated(tuple(args.sizes), args.profile)
     bench_operator(args.repeats)
@@ -374,6 +399,7 @@ def main(argv: list[str] | None = None) -> int:
     bench_export(args.points)
     bench_compare(args.repeats)
     bench_evaluate()
+    bench_invariance(args.repeats)
     return 0
 
 
