@@ -455,6 +455,10 @@ def _contract_alternating(atoms: tuple[Atom, ...]) -> list[tuple[int, tuple[Atom
                 replaced = atoms[:first] + deltas + atoms[first + 1:second] + atoms[second + 1:]
                 for factor, reduced in _contract_alternating(replaced):
                     out.append((sign * permutation_sign(list(perm)) * factor, reduced))
+                if len(out) > MAX_MONOMIALS_PER_TERM:
+                    raise DerivationError(f"contracting the alt tensors of this term gives more than "
+                                          f"{MAX_MONOMIALS_PER_TERM} monomials", a.span,
+                                          "share more indices between the alt tensors, or split the term")
             return out
     return [(1, atoms)]
 
