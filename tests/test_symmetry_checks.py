@@ -268,3 +268,18 @@ def test_check_prints_the_summary_after_a_meaning_error(tmp_path: Path, capsys: 
     captured = capsys.readouterr()
     assert f"{path}:14:" in captured.err
     assert captured.out == f"{path}: 1 error, 0 warnings, 0 notes\n"
+
+
+def test_global_symmetries_in_the_json_output() -> None:
+    import json
+
+    from vertexsmith.render import render
+
+    rules = vs.load_model(vs.example("dark_doublet")).derive()
+    data = json.loads(render(rules, "json"))
+    assert data["symmetries"] == [{"kind": "Z", "name": "darkpar", "order": 2},
+                                  {"kind": "U1", "name": "lepton", "order": 1}]
+    fields = {f["name"]: f for f in data["fields"]}
+    assert fields["N"]["global_charges"] == [{"charge": "1", "symmetry": "lepton"},
+                                             {"charge": "1", "symmetry": "darkpar"}]
+    assert fields["H"]["global_charges"] == []

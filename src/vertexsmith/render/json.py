@@ -34,7 +34,7 @@ if TYPE_CHECKING:
     from ..rules import CouplingPart, Leg, Propagator, Rules, Vertex
 
 # 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy")
-FORMAT_VERSION = "2.0"
+FORMAT_VERSION = "2.1"
 SCHEMA_RESOURCE = "rules.schema.json"
 
 GAUGE_TEXT = {
@@ -115,6 +115,7 @@ def _field(f: "Field") -> dict[str, Any]:
         "charges": [{"group": group, "charge": _fraction(q)} for group, q in f.charges],
         "representations": [{"group": group, "representation": rep}
                             for group, rep in getattr(f, "representations", ())],
+        "global_charges": [{"symmetry": name, "charge": _fraction(q)} for name, q in f.global_charges],
         "description": f.description,
     }
 
@@ -195,6 +196,7 @@ def rules_to_dict(rules: "Rules") -> dict[str, Any]:
         "conventions": conventions_to_dict(rules),
         "parameters": [_parameter(p) for p in model.parameters.values()],
         "groups": [_group(rules, g) for g in model.groups.values()],
+        "symmetries": [{"name": x.name, "kind": x.kind, "order": x.order} for x in model.symmetries.values()],
         "fields": [_field(f) for f in model.fields.values()],
         "vertices": [_vertex(v) for v in rules.vertices],
         "propagators": [_propagator(model, p) for p in rules.propagators],
