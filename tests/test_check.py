@@ -176,8 +176,8 @@ def test_conjugate_of_a_chiral_bilinear():
 @pytest.mark.parametrize("extra, message", [
     ("  - g phi^2 s\n", "term is not neutral under 'qed': its net charge is +1"),
     ("  - g phi^2 dag(s)\n", "term is not neutral under 'qed': its net charge is -1"),
-    ("  - g phi bar(psi) chi + h.c.\n", "term is not neutral under 'qed': its net charges are -1, +1"),
-    ("  - g m s s phi + h.c.\n", "term is not neutral under 'qed': its net charges are -2, +2"),
+    ("  - g phi bar(psi) chi + h.c.\n", "term is not neutral under 'qed': its net charge is ±1"),
+    ("  - g m s s phi + h.c.\n", "term is not neutral under 'qed': its net charge is ±2"),
 ], ids=["s", "dag-s", "psi-chi-hc", "s-s"])
 def test_charge_violation(extra, message):
     found = [(sev, line, msg) for sev, line, msg in _found(BASE + extra) if "neutral" in msg]
@@ -344,7 +344,7 @@ def test_operator_dimension_values():
     ("  g m^3 phi\n", [("warning", 22, "term is linear in 'phi' (a tadpole)")]),
     ("  y m^3 s + h.c.\n", [("warning", 22, "term is linear in 'dag(s)' (a tadpole)"),
                             ("warning", 22, "term is linear in 's' (a tadpole)"),
-                            ("error", 22, "term is not neutral under 'qed': its net charges are -1, +1")]),
+                            ("error", 22, "term is not neutral under 'qed': its net charge is ±1")]),
 ], ids=["real", "complex"])
 def test_tadpoles(extra, expected):
     assert _found(BASE + extra) == expected
@@ -356,7 +356,7 @@ def test_tadpoles(extra, expected):
     (BASE + "  - g m phi s + h.c.\n",
      [("error", 22, "'phi' and 'dag(s)' mix at quadratic order"),
       ("error", 22, "'phi' and 's' mix at quadratic order"),
-      ("error", 22, "term is not neutral under 'qed': its net charges are -1, +1")]),
+      ("error", 22, "term is not neutral under 'qed': its net charge is ±1")]),
     ("theory t\nfields\n  vector V\nlagrangian\n  -1/4 (d[mu] V[nu] - d[nu] V[mu]) (d[mu] V[nu] - d[nu] V[mu])\n",
      [("error", 3, "the quadratic kernel of 'V' cannot be inverted")]),
     (BASE + "  g phi d[mu] phi d[mu]\n",

@@ -43,7 +43,7 @@ from .derive import (canonical_legs, check_chains, derive_rules, make_legs, mono
                      species_of)
 from .errors import Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, expand_model
-from .invariance import find_violations
+from .invariance import find_violations, show_net_charges
 from .rules import P2, Vertex, VertexTerm
 
 SEVERITIES = ("error", "warning", "note")
@@ -136,10 +136,6 @@ def _label(model: m.Model, species: Species) -> str:
 def _show(expr: sympy.Expr) -> str:
     """A sympy expression written the way the model language writes it."""
     return str(expr).replace("**", "^").replace("conjugate(", "conj(")
-
-
-def _show_charge(q: Fraction) -> str:
-    return f"{'+' if q > 0 else ''}{q}"
 
 
 class _NumericPoint:
@@ -241,9 +237,7 @@ class _Checker:
                 if net != 0:
                     found.setdefault((mono.origin.line, group.name), (mono.origin, set()))[1].add(net)
         for (_, group_name), (span, charges) in found.items():
-            shown = ", ".join(_show_charge(q) for q in sorted(charges))
-            what = "net charge is" if len(charges) == 1 else "net charges are"
-            self.add("error", f"term is not neutral under '{group_name}': its {what} {shown}", span,
+            self.add("error", f"term is not neutral under '{group_name}': its {show_net_charges(charges)}", span,
                      "the charges of every term must add up to 0 (bar() and dag() fields count with the "
                      "opposite sign): check the charges in the fields section and the conjugations in this term")
 

@@ -62,8 +62,10 @@ class _End:
 
 
 def find_violations(model: m.Model, monomials: Iterable[Monomial]) -> list[Finding]:
-    """The first SU(N) and global-symmetry violation of each Lagrangian line and group, in line order."""
+    """The first SU(N) violation of each Lagrangian line and group, and one finding per line and
+    broken global symmetry (naming every net charge of the line once), in line order."""
     found: dict[tuple[int, str], Finding] = {}
+    charges: dict[tuple[int, str], tuple[Span, set[Fraction]]] = {}
     groups = [g for g in model.groups.values() if not g.abelian]
     for mono in monomials:
         for group in groups:
@@ -72,11 +74,24 @@ def find_violations(model: m.Model, monomials: Iterable[Monomial]) -> list[Findi
                 if finding is not None:
                     found[(mono.origin.line, group.name)] = finding
         for symmetry in model.symmetries.values():
-            if (mono.origin.line, symmetry.name) not in found:
-                finding = _charge_violation(model, mono, symmetry)
-                if finding is not None:
-                    found[(mono.origin.line, symmetry.name)] = finding
-    return list(found.values())
+            total = _net_charge(model, mono, symmetry)
+            if not symmetry.conserved(total):
+                key = (mono.origin.line, symmetry.name)
+                charges.setdefault(key, (_fields_span(mono), set()))[1].add(
+                    total if symmetry.kind == "U1" else total % symmetry.order)
+    for (line, name), (span, totals) in charges.items():
+        found[(line, name)] = _charge_finding(model.symmetries[name], totals, span)
+    return sorted(found.values(), key=lambda f: (f.span.line, f.span.column))
+
+
+def show_net_charges(charges: Iterable[Fraction]) -> str:
+    """'net charge is +1', 'net charges are -1, +2', and for opposite pairs (a term and its h.c.) '±1'."""
+    values = set(charges)
+    if len(values) > 1 and all(-q in values for q in values):
+        shown = [f"±{q}" for q in sorted({abs(q) for q in values})]
+    else:
+        shown = [f"{'+' if q > 0 else ''}{q}" for q in sorted(values)]
+    return f"net charge{' is' if len(shown) == 1 else 's are'} {', '.join(shown)}"
 
 
 # ------------------------------------------------------------------ SU(N) contractions
@@ -221,29 +236,27 @@ def _place(mono: Monomial, span: Span) -> Span:
 
 # ------------------------------------------------------------------ global charges
 
-def _charge_violation(model: m.Model, mono: Monomial, symmetry: m.GlobalSymmetry) -> Finding | None:
+def _net_charge(model: m.Model, mono: Monomial, symmetry: m.GlobalSymmetry) -> Fraction:
     total = Fraction(0)
-    carriers: list[FieldAtom] = []
     for atom in mono.fields:
         charge = dict(model.fields[atom.field].global_charges).get(symmetry.name, Fraction(0))
-        if charge:
-            carriers.append(atom)
-            total += -charge if atom.conjugate else charge
-    if symmetry.conserved(total):
-        return None
+        total += -charge if atom.conjugate else charge
+    return total
+
+
+def _charge_finding(symmetry: m.GlobalSymmetry, totals: set[Fraction], span: Span) -> Finding:
     if symmetry.kind == "Z":
-        residue = total % symmetry.order
-        what = "odd" if symmetry.order == 2 else f"of charge {residue} mod {symmetry.order}"
+        shown = " or ".join(str(q) for q in sorted(totals))
+        what = "odd" if symmetry.order == 2 else f"of charge {shown} mod {symmetry.order}"
         message = f"term is {what} under the {symmetry.label} symmetry '{symmetry.name}'"
         hint = ("the charges of the fields of every term must add up to 0 mod "
                 f"{symmetry.order} (bar() and dag() fields count with the opposite sign); if the breaking is "
                 "intended, remove the symmetry from the global section")
     else:
-        message = (f"term breaks the global U(1) symmetry '{symmetry.name}': its net charge is "
-                   f"{'+' if total > 0 else ''}{total}")
+        message = f"term breaks the global U(1) symmetry '{symmetry.name}': its {show_net_charges(totals)}"
         hint = ("the charges of every term must add up to 0 (bar() and dag() fields count with the opposite sign): "
                 "check the charges in the fields section and the conjugations in this term")
-    return Finding(message, _fields_span(mono), hint)
+    return Finding(message, span, hint)
 
 
 def _fields_span(mono: Monomial) -> Span:
@@ -256,4 +269,4 @@ def _fields_span(mono: Monomial) -> Span:
     return Span(first.line, first.column, last.end_line, last.end_column)
 
 
-__all__ = ["Finding", "find_violations"]
+__all__ = ["Finding", "find_violations", "show_net_charges"]
