@@ -217,7 +217,9 @@ class _Checker:
             else:
                 good.append(mono)
         self.check_charges(good)
-        self.check_invariance(good)
+        # a term whose index lines cannot be contracted is reported once, here, and not derived below
+        broken = self.check_invariance(good)
+        good = [mono for mono in good if mono.origin.line not in broken]
         self.check_dimensions(good)
         self.check_tadpoles(good)
         self.check_mixing(good)
@@ -241,10 +243,18 @@ class _Checker:
                      "the charges of every term must add up to 0 (bar() and dag() fields count with the "
                      "opposite sign): check the charges in the fields section and the conjugations in this term")
 
-    def check_invariance(self, monomials: list[Monomial]) -> None:
-        """SU(N) index contractions and global U(1) and Z(N) charges, at the offending factor."""
+    def check_invariance(self, monomials: list[Monomial]) -> set[int]:
+        """SU(N) index contractions and global U(1) and Z(N) charges, at the offending factor.
+
+        Returns the lines whose index lines cannot even be contracted (an adjoint index joined
+        to a fundamental one), which the derivation would refuse again.
+        """
+        broken: set[int] = set()
         for finding in find_violations(self.model, monomials):
             self.add("error", finding.message, finding.span, finding.hint)
+            if finding.blocks_derivation:
+                broken.add(finding.line)
+        return broken
 
     # -------------------------------------------------------------- dimensions
     def check_dimensions(self, monomials: list[Monomial]) -> None:

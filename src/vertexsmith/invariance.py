@@ -50,6 +50,8 @@ class Finding:
     message: str
     span: Span
     hint: str
+    line: int = 0  # the Lagrangian line of the term
+    blocks_derivation: bool = False  # the term's indices cannot be contracted at all
 
 
 @dataclass(frozen=True)
@@ -168,7 +170,7 @@ def _group_violation(model: m.Model, mono: Monomial, group: m.GaugeGroup) -> Fin
         first, second = sorted(items, key=lambda e: e.atom)
         kinds = {first.kind, second.kind}
         if _ADJOINT in kinds and kinds != {_ADJOINT}:
-            return _finding(mono, second.atom,
+            return _finding(mono, second.atom, True,
                             f"the index '{name}' joins an adjoint and a fundamental index of '{group.name}' "
                             f"('{first.label}' and '{second.label}')",
                             "an adjoint index (a, b, c) pairs with an adjoint index, a fundamental one with the "
@@ -176,7 +178,7 @@ def _group_violation(model: m.Model, mono: Monomial, group: m.GaugeGroup) -> Fin
         if kinds <= {_UPPER, _LOWER} and len(kinds) == 1:
             conjugated = first.kind == _LOWER
             what = "conjugated fundamental" if conjugated else "fundamental"
-            return _finding(mono, second.atom,
+            return _finding(mono, second.atom, False,
                             f"two {what} indices of '{group.name}' are contracted with each other (index "
                             f"'{name}'): not invariant under {su}",
                             _contraction_hint(model, group, conjugated, first.label, second.label))
@@ -185,7 +187,7 @@ def _group_violation(model: m.Model, mono: Monomial, group: m.GaugeGroup) -> Fin
         elif "alt" in kinds:
             alt, other = (first, second) if first.kind == "alt" else (second, first)
             if alt_kind.setdefault(alt.atom, other.kind) != other.kind:
-                return _finding(mono, alt.atom,
+                return _finding(mono, alt.atom, False,
                                 f"alt of '{group.name}' contracts both a fundamental and a conjugated fundamental "
                                 f"index (index '{name}'): not invariant under {su}",
                                 "contract every index of one alt with unconjugated fundamentals "
@@ -203,7 +205,7 @@ def _group_violation(model: m.Model, mono: Monomial, group: m.GaugeGroup) -> Fin
                         alt_kind[that] = wanted
                         changed = True
                     elif alt_kind[that] != wanted:
-                        return _finding(mono, max(a, b),
+                        return _finding(mono, max(a, b), False,
                                         f"the alt tensors of '{group.name}' joined by index '{name}' are "
                                         f"contracted inconsistently: not invariant under {su}",
                                         "write the contraction out with fields and their conjugates")
@@ -223,8 +225,8 @@ def _contraction_hint(model: m.Model, group: m.GaugeGroup, conjugated: bool, fir
            f"through {alt}[{indices}]"
 
 
-def _finding(mono: Monomial, position: int, message: str, hint: str) -> Finding:
-    return Finding(message, _place(mono, mono.atoms[position].span), hint)
+def _finding(mono: Monomial, position: int, blocks: bool, message: str, hint: str) -> Finding:
+    return Finding(message, _place(mono, mono.atoms[position].span), hint, mono.origin.line, blocks)
 
 
 def _place(mono: Monomial, span: Span) -> Span:
@@ -256,7 +258,7 @@ def _charge_finding(symmetry: m.GlobalSymmetry, totals: set[Fraction], span: Spa
         message = f"term breaks the global U(1) symmetry '{symmetry.name}': its {show_net_charges(totals)}"
         hint = ("the charges of every term must add up to 0 (bar() and dag() fields count with the opposite sign): "
                 "check the charges in the fields section and the conjugations in this term")
-    return Finding(message, span, hint)
+    return Finding(message, span, hint, span.line)
 
 
 def _fields_span(mono: Monomial) -> Span:
