@@ -168,10 +168,10 @@ def test_form_has_one_id_statement_per_rule(exported: dict, name: str) -> None:
     rules = exported[name][0]
     text = export_rules(rules, "form")
     assert text == export_rules(rules, "form")  # deterministic
-    body = [line for line in text.splitlines() if not line.startswith("*")]
+    body = [line for line in text.splitlines() if not line.startswith(("*", "#"))]
     statements = " ".join(body).split(";")
-    vertex_ids = [s for s in statements if s.strip().startswith("id V(")]
-    propagator_ids = [s for s in statements if s.strip().startswith("id P(")]
+    vertex_ids = [s for s in statements if s.strip().startswith("id vtx(")]
+    propagator_ids = [s for s in statements if s.strip().startswith("id prop(")]
     assert len(vertex_ids) == len(rules.vertices)
     assert len(propagator_ids) == len(rules.propagators)
     for statement in statements:
@@ -179,19 +179,48 @@ def test_form_has_one_id_statement_per_rule(exported: dict, name: str) -> None:
         assert statement.count("[") == statement.count("]")
     assert "* Conventions: metric (+,-,-,-)" in text
     assert all(line.startswith("*") for line in text.splitlines()[:5])
+    # declarations first, every substitution inside a procedure, so the file can head a program
+    first_procedure = text.index("#procedure vsvertices()")
+    assert not any(line.startswith("id ") for line in text[:first_procedure].splitlines())
+    assert text.index("Functions vtx, prop;") < first_procedure and text.rstrip().endswith("#endprocedure")
+    # group indices carry their dimensions
+    for group in rules.model.groups.values():
+        if group.rank > 1:
+            assert re.search(rf"\ba1{group.name}={group.rank ** 2 - 1}\b", text) or f"{group.name}" not in text
 
 
 def test_form_statements_for_qed() -> None:
     # the QED vertex is -i e gamma^mu for charge -1 (Peskin & Schroeder ch. 4, up to the charge sign convention)
     rules = vertexsmith.load_model(vertexsmith.example("qed")).derive(gauge="feynman")
     text = export_rules(rules, "form")
-    assert "id V(bar(ele),ele,A,p1?,p2?,p3?,mu3?,j1?) = -i_*e*g_(j1,mu3);" in text
-    assert "id P(A,p?,mu?,nu?) = -i_*den(p.p)*d_(mu,nu);" in text
+    assert "id vtx(bar(ele),ele,A,p1?,p2?,p3?,mu3?,j1?) = -i_*e*g_(j1,mu3);" in text
+    assert "id prop(A,p?,mu?,nu?) = -i_*den(p.p)*d_(mu,nu);" in text
     # momentum combinations are distributed: FORM writes p1(mu3) - p2(mu3)
     scalar = export_rules(vertexsmith.load_model(vertexsmith.example("scalar_qed")).derive(gauge="feynman"), "form")
-    assert "id V(phi,dag(phi),A,p1?,p2?,p3?,mu3?) = i_*e*p1(mu3) - i_*e*p2(mu3);" in scalar
-    declarations = re.findall(r"^(Symbols|Vectors|Indices|CFunctions) .*;$", text, flags=re.M)
-    assert declarations == ["Symbols", "Vectors", "Indices", "CFunctions"]
+    assert "id vtx(phi,dag(phi),A,p1?,p2?,p3?,mu3?) = i_*e*p1(mu3) - i_*e*p2(mu3);" in scalar
+    declarations = re.findall(r"^(Symbols|Vectors|Indices|Functions|CFunctions) .*;$", text, flags=re.M)
+    assert declarations == ["Symbols", "Vectors", "Indices", "Functions", "CFunctions"]
+
+
+def test_form_names_do_not_clash_with_kinematics_and_deltas_know_their_space() -> None:
+    # a field named s (the Mandelstam variable) is renamed, and the renaming is listed
+    model = vertexsmith.load_model(text="""theory clash "a scalar named s (invented numbers)"
+parameters
+  coupling lam = 0.1
+  mass ms = 1.0
+fields
+  scalar s real mass ms
+lagrangian
+  1/2 d[mu] s d[mu] s - 1/2 ms^2 s^2 - lam/24 s^4
+""", name="clash.vsm")
+    text = export_rules(model.derive(), "form")
+    assert "id vtx(sx1,sx1,sx1,sx1," in text and "sx1 = s" in text
+    assert not re.search(r"\bs\b", text.split("* declarations")[1])
+    # adjoint and fundamental deltas live on indices of their own dimensions (8 and 3 for colour)
+    qcd = export_rules(vertexsmith.load_model(vertexsmith.example("qcd")).derive(), "form")
+    assert "id prop(G,p?,mu?,nu?,a1color?,a2color?) = d_(a1color,a2color)*(" in qcd
+    assert "id prop(d,p?,j?,i1color?,i2color?) = d_(i1color,i2color)*(" in qcd
+    assert "a1color=8" in qcd and "i1color=3" in qcd and "e1color=8" in qcd
 
 
 # ---------------------------------------------------------------- the command
@@ -201,7 +230,7 @@ def test_export_command(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> N
 
     target = tmp_path / "rules.frm"
     assert main(["export", "qed", "--to", "form", "-o", str(target)]) == 0
-    assert target.read_text(encoding="utf-8").count("id V(") == 2
+    assert target.read_text(encoding="utf-8").count("id vtx(") == 2
     assert main(["export", "yukawa", "--to", "python"]) == 0
     assert "def vertex_bar_psi__psi__phi(p1, p2, p3, params=None):" in capsys.readouterr().out
     assert main(["export", "qed", "--to", "json"]) == 0

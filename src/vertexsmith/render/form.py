@@ -1,18 +1,25 @@
-"""Rules as FORM `id` statements, for amplitude work in the open FORM language.
+"""Rules for FORM: declarations, then the substitutions as procedures the user calls.
 
-One statement per vertex and per propagator, with a conventions header in `*` comment lines and
-the declarations the statements need. Vertex functions are named by their legs:
+The file can be included at the top of a user's program (`#include model.frm`): it holds only
+declarations and procedure definitions, so the user's own declarations may follow it. The
+substitutions run where the user writes `#call vsvertices()`, `#call vspropagators()` or both at
+once with `#call vsrules()`. Vertex functions are named by their legs:
 
-    id V(bar(ele),ele,A,p1?,p2?,p3?,mu3?,j1?) = -i_*e*g_(j1,mu3);
+    id vtx(bar(ele),ele,A,p1?,p2?,p3?,mu3?,j1?) = -i_*e*g_(j1,mu3);
 
 The arguments after the leg labels are wildcards, in this order: the incoming momentum of each
 leg (p1, p2, ...), the Lorentz index of each vector leg (mu<k>), the group index of each leg in
-a non-abelian representation (a<k> adjoint, i<k> fundamental), and one spin line per fermion
-chain (j1, j2, ...). Propagators are `P(field,p?[,mu?,nu?][,j?][,group indices])`.
-Gamma matrices are `g_(line,mu)`, gamma5 `g5_(line)`, the unit `gi_(line)`; the metric is
-`d_(mu,nu)`, a momentum component `p1(mu3)`, a dot product `p1.p2`, the Levi-Civita tensor
-`e_(...)`, i is `i_`; 1/x is written `den(x)`. Group tensors are the functions
-`f<group>(a,b,c)`, `T<group>(a,i,j)` and `d<group>(i,j)` (declared, not built in).
+a non-abelian representation (a<k><group> adjoint, i<k><group> fundamental), and one spin line
+per fermion chain (j1, j2, ...). Propagators are `prop(field,p?[,mu?,nu?][,j?][,group indices])`.
+`vtx` and `prop` are non-commuting functions, so a product vertex x propagator x vertex keeps
+the order of the Dirac matrices along a spin line when FORM sorts the term. Gamma matrices are
+`g_(line,mu)`, gamma5 `g5_(line)`, the unit `gi_(line)`; the metric is `d_(mu,nu)`, a momentum
+component `p1(mu3)`, a dot product `p1.p2`, the Levi-Civita tensor `e_(...)`, i is `i_`; 1/x is
+written `den(x)`. Group indices are declared with their dimensions (N, or N^2 - 1 for adjoint
+ones), so their deltas are FORM's own `d_` and contract to the right numbers; the structure
+constants, generators and alternating tensor are the functions `f<group>(a,b,c)`,
+`T<group>(a,i,j)` and `alt<group>(i,j,...)`. Model names that FORM or the customary kinematic
+symbols (s, t, u, q, k, l, p, ...) would clash with are renamed, and the renaming is listed.
 The output is deterministic: the same rules give the same text.
 """
 
@@ -34,10 +41,12 @@ from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, 
 
 __all__ = ["render_form", "render"]
 
-# our own FORM names; model names that clash with them are renamed
-_RESERVED = ({"V", "P", "bar", "dag", "den", "conj", "sqrt", "sin", "cos", "tan", "exp", "log", "re", "im", "p",
-              "mu", "nu", "j"}
-             | {f"{letter}{k}" for letter in ("p", "mu", "j", "a", "i", "r", "e") for k in range(1, 10)})
+# our own FORM names and the customary kinematic symbols a user's program declares (Mandelstam s, t,
+# u; momenta p, q, k, l with or without a number); model names that clash with them are renamed
+_RESERVED = ({"vtx", "prop", "bar", "dag", "den", "conj", "sqrt", "sin", "cos", "tan", "exp", "log", "re", "im",
+              "mu", "nu", "j", "s", "t", "u", "p", "q", "k", "l", "vsrules", "vsvertices", "vspropagators"}
+             | {f"{letter}{k}" for letter in ("p", "q", "k", "l", "mu", "nu", "j", "a", "i", "r", "e")
+                for k in range(1, 10)})
 
 
 class _Names:
@@ -189,7 +198,7 @@ class _Structure:
         self.lines = lines
         self.group_functions = group_functions
 
-    def slot(self, slot: Slot) -> str:
+    def slot(self, slot: Slot, group: str = "") -> str:
         if isinstance(slot, LegIndex):
             return f"mu{slot.leg}"
         if isinstance(slot, Dummy):
@@ -200,7 +209,7 @@ class _Structure:
         if isinstance(slot, LegGroupIndex):
             return self.group_names[(slot.leg, slot.group)]
         assert isinstance(slot, GroupDummy)
-        return slot.name
+        return f"{slot.name}{group}"  # a dummy of one group, declared with that group's dimension
 
     def product(self, structure: Structure) -> str:
         factors: list[str] = []
@@ -223,8 +232,9 @@ class _Structure:
             factors.append(self.chain(chain))
         for g in structure.group:
             kind = {StructureConstant: "f", Generator: "T", GroupDelta: "d", GroupAlternating: "alt"}[type(g)]
-            name = self.group_functions[f"{kind}:{g.group}"]
-            factors.append(f"{name}(" + ",".join(self.slot(s) for s in g.slots_) + ")")
+            # a delta is FORM's d_: its indices carry their dimension, so it contracts to N or N^2 - 1
+            name = "d_" if kind == "d" else self.group_functions[f"{kind}:{g.group}"]
+            factors.append(f"{name}(" + ",".join(self.slot(s, _form_index(g.group)) for s in g.slots_) + ")")
         return "*".join(factors) if factors else "1"
 
     def chain(self, chain: Chain) -> str:
@@ -257,17 +267,42 @@ def _form_index(name: str) -> str:
     return re.sub(r"[^A-Za-z0-9]", "", name)
 
 
+def _group_index(letter_and_leg: str, group: str) -> str:
+    """a3color, i1weak: a group index of FORM, always qualified by its group (its dimension depends on it)."""
+    return _form_index(letter_and_leg + group)
+
+
+def _dummy_dimensions(structure: Structure, ranks: dict[str, int], leg_dims: dict[tuple[int, str], int],
+                      dims: dict[str, int]) -> None:
+    """The dimension of every contracted group index, read from the tensors it sits in."""
+    for g in structure.group:
+        n = ranks.get(g.group, 1)
+        if isinstance(g, StructureConstant):
+            kinds = [n * n - 1] * 3
+        elif isinstance(g, Generator):
+            kinds = [n * n - 1, n, n]
+        elif isinstance(g, GroupAlternating):
+            kinds = [n] * len(g.slots_)
+        else:
+            known = [leg_dims[(x.leg, x.group)] for x in g.slots_ if isinstance(x, LegGroupIndex)]
+            kinds = [known[0] if known else n] * 2
+        for slot, dim in zip(g.slots_, kinds):
+            if isinstance(slot, GroupDummy):
+                dims[f"{slot.name}{_form_index(g.group)}"] = dim
+
+
 def _vertex_statement(vertex: Vertex, names: _Names, printer: _Printer, group_functions: dict[str, str],
-                      declared: dict[str, set[str]]) -> str:
+                      declared: dict[str, set[str]], dims: dict[str, int], ranks: dict[str, int]) -> str:
     legs = vertex.legs
     group_names: dict[tuple[int, str], str] = {}
     group_args: list[str] = []
+    leg_dims = {(leg.position, g): d for leg in legs for g, _, d in leg.representations}
     for leg in legs:
-        group_indices = [i for i in leg.indices if i not in (f"mu{leg.position}", f"s{leg.position}")]
-        for (group, _, _), index in zip(leg.representations, group_indices):
-            name = _form_index(index)
+        for group, rep, dim in leg.representations:
+            name = _group_index(("a" if rep == "adjoint" else "i") + str(leg.position), group)
             group_names[(leg.position, group)] = name
             group_args.append(name)
+            dims[name] = dim
     chains = sorted({(c.bar_leg, c.leg) for t in vertex.terms for c in t.structure.chains})
     lines = {pair: f"j{k + 1}" for k, pair in enumerate(chains)}
     arguments = ([_leg_label(leg.label, names) for leg in legs] + [f"{leg.momentum}?" for leg in legs]
@@ -275,19 +310,19 @@ def _vertex_statement(vertex: Vertex, names: _Names, printer: _Printer, group_fu
                  + [f"{a}?" for a in group_args] + [f"{line}?" for line in lines.values()])
     declared["vectors"].update(leg.momentum for leg in legs)
     declared["indices"].update(f"mu{leg.position}" for leg in legs if leg.kind == "vector")
-    declared["indices"].update(group_args)
     declared["lines"].update(lines.values())
     writer = _Structure(group_names, lines, group_functions)
     terms: list[str] = []
     for term in vertex.terms:
+        _dummy_dimensions(term.structure, ranks, leg_dims, dims)
         for c, structure in _expand_momenta(term.structure):
             for slot in structure.slots():
-                if isinstance(slot, (Dummy, GroupDummy)):
+                if isinstance(slot, Dummy):
                     declared["indices"].add(slot.name)
             coefficient = sympy.Rational(c.numerator, c.denominator) * term.coefficient
             terms.append(_times(printer(coefficient), writer.product(structure)))
     body = _join(terms)
-    head = f"id V({','.join(arguments)}) ="
+    head = f"id vtx({','.join(arguments)}) ="
     return _wrap(f"{head} {body};")
 
 
@@ -327,8 +362,8 @@ def _wrap(statement: str) -> str:
     return "\n    ".join(line.strip() for line in lines)
 
 
-def _propagator_statement(prop: Propagator, names: _Names, printer: _Printer, group_functions: dict[str, str],
-                          declared: dict[str, set[str]]) -> str:
+def _propagator_statement(prop: Propagator, names: _Names, printer: _Printer, declared: dict[str, set[str]],
+                          dims: dict[str, int]) -> str:
     arguments = [names.of(prop.field), "p?"]
     if prop.kind == "vector":
         arguments += ["mu?", "nu?"]
@@ -349,15 +384,15 @@ def _propagator_statement(prop: Propagator, names: _Names, printer: _Printer, gr
     else:
         body = printer(prop.a)
     deltas = []
-    for k, (group, _, _) in enumerate(prop.representations):
-        index_pair = prop.indices[len(prop.indices) - 2 * len(prop.representations) + 2 * k:][:2]
-        first, second = (_form_index(x) for x in index_pair)
+    for group, rep, dim in prop.representations:
+        letter = "a" if rep == "adjoint" else "i"
+        first, second = _group_index(f"{letter}1", group), _group_index(f"{letter}2", group)
         arguments += [f"{first}?", f"{second}?"]
-        declared["indices"].update((first, second))
-        deltas.append(f"{group_functions['d:' + group]}({first},{second})")
+        dims.update({first: dim, second: dim})
+        deltas.append(f"d_({first},{second})")
     if deltas:
         body = "*".join(deltas) + f"*({body})"
-    return _wrap(f"id P({','.join(arguments)}) = {body};")
+    return _wrap(f"id prop({','.join(arguments)}) = {body};")
 
 
 def _comment_block(text: str) -> list[str]:
@@ -365,7 +400,7 @@ def _comment_block(text: str) -> list[str]:
 
 
 def render_form(rules: Rules) -> str:
-    """FORM `id` statements for every vertex and propagator, with a conventions header (deterministic)."""
+    """Declarations, then the rules as procedures vsvertices, vspropagators and vsrules (deterministic)."""
     model = rules.model
     names = _Names(_RESERVED)
     for name in list(model.parameters) + list(model.fields):
@@ -373,23 +408,26 @@ def render_form(rules: Rules) -> str:
     printer = _Printer(names)
     group_functions: dict[str, str] = {}
     for group in model.groups.values():
-        for kind in ("f", "T", "d", "alt"):
+        for kind in ("f", "T", "alt"):
             group_functions[f"{kind}:{group.name}"] = names.of(f"{kind}{group.name}")
+    ranks = {g.name: g.rank for g in model.groups.values()}
     declared: dict[str, set[str]] = {"vectors": {"p"}, "indices": {"mu", "nu"}, "lines": set()}
-    statements = [_vertex_statement(v, names, printer, group_functions, declared) for v in rules.vertices]
-    propagators = [_propagator_statement(p, names, printer, group_functions, declared) for p in rules.propagators]
+    dims: dict[str, int] = {}
+    statements = [_vertex_statement(v, names, printer, group_functions, declared, dims, ranks)
+                  for v in rules.vertices]
+    propagators = [_propagator_statement(p, names, printer, declared, dims) for p in rules.propagators]
     symbols = sorted({names.of(n) for n in model.parameters}
                      | {names.of(s.name) for p in rules.propagators for s in (p.a.free_symbols | p.b.free_symbols)
                         if s != P2}, key=lambda x: (x.lower(), x))
     fields = sorted({names.of(f) for f in model.fields}, key=lambda x: (x.lower(), x))
-    functions = ["V", "P", "bar", "dag", "den", *sorted(printer.functions)]
+    functions = ["bar", "dag", "den", *sorted(printer.functions)]
     functions += sorted(group_functions[k] for k in group_functions
                         if any(group_functions[k] + "(" in s for s in statements + propagators))
 
     def _sorted(items: Iterable[str]) -> str:
-        def key(x: str) -> tuple[str, int]:
-            digits = re.search(r"\d*$", x)  # always matches, perhaps the empty string
-            return re.sub(r"\d+$", "", x), (int(digits.group() or 0) if digits else 0)
+        def key(x: str) -> tuple[str, int, str]:
+            match = re.match(r"^([A-Za-z]+?)(\d+)(.*)$", x)
+            return (match.group(1), int(match.group(2)), match.group(3)) if match else (x, 0, "")
 
         return ", ".join(sorted(items, key=key))
 
@@ -398,31 +436,46 @@ def render_form(rules: Rules) -> str:
     header += _comment_block("Conventions: " + rules.conventions)
     header += ["*"]
     header += _comment_block(
-        "Vertices: V(leg labels, then wildcards: the incoming momentum of every leg p1, p2, ...; the Lorentz "
-        "index mu<k> of every vector leg; the group index of every leg in a non-abelian representation "
-        "(a<k> adjoint, i<k> fundamental); one spin line j1, j2, ... per fermion chain, chains ordered by "
-        "their bar leg). Propagators: P(field, p, then mu, nu for vectors or the spin line j for fermions, "
-        "then two group indices per group), p along the particle arrow.")
+        "Use: #include this file at the top of a program (it declares names and defines procedures, nothing "
+        "runs), declare your own names after it, build expressions with vtx(...) and prop(...), then "
+        "#call vsrules() (or vsvertices() and vspropagators() separately) to substitute the rules.")
+    header += _comment_block(
+        "Vertices: vtx(leg labels, then wildcards: the incoming momentum of every leg p1, p2, ...; the "
+        "Lorentz index mu<k> of every vector leg; the group index of every leg in a non-abelian "
+        "representation (a<k><group> adjoint, i<k><group> fundamental); one spin line j1, j2, ... per "
+        "fermion chain, chains ordered by their bar leg). Propagators: prop(field, p, then mu, nu for "
+        "vectors or the spin line j for fermions, then two group indices per group), p along the particle "
+        "arrow. vtx and prop are non-commuting functions: write them in the order of the spin line.")
     header += _comment_block(
         "Notation: g_(j,mu) gamma matrix on spin line j, g5_(j) gamma5, gi_(j) unit; PL = (gi_ - g5_)/2, "
-        "PR = (gi_ + g5_)/2; sigma^{mu nu} = i_/2*(g_(j,mu,nu) - g_(j,nu,mu)); d_ metric; e_ the "
-        f"Levi-Civita tensor with epsilon^{{0123}} = {model.conventions.eps0123:+d} (our convention: check it "
-        "against FORM's own before contracting two e_); den(x) = 1/x; conj(x) the complex conjugate. "
-        "Group tensors: f<group>(a,b,c) structure constants, T<group>(a,i,j) generators (Tr T^a T^b = "
-        "delta^{ab}/2), d<group>(x,y) Kronecker delta.")
+        "PR = (gi_ + g5_)/2; sigma^{mu nu} = i_/2*(g_(j,mu,nu) - g_(j,nu,mu)); d_ metric and group deltas "
+        "(group indices are declared with their dimension); e_ the Levi-Civita tensor with epsilon^{0123} = "
+        f"{model.conventions.eps0123:+d} (our convention: check it against FORM's own before contracting two "
+        "e_); den(x) = 1/x; conj(x) the complex conjugate. Group tensors: f<group>(a,b,c) structure "
+        "constants, T<group>(a,i,j) generators in the fundamental (Tr T^a T^b = delta^{ab}/2), "
+        "alt<group>(i,j,...) the alternating tensor.")
     header += _comment_block(
-        "Contracted indices r1, r2, ... (Lorentz) and e1, e2, ... (group) are dummies: when one term can hold "
-        "two copies of such a vertex, substitute with 'id once' in a repeat loop and rename the dummies "
-        "(sum r1;) after each substitution.")
+        "Contracted indices r1, r2, ... (Lorentz) and e1<group>, e2<group>, ... (group) are dummies: when one "
+        "term can hold two copies of such a vertex, substitute with 'id once' in a repeat loop and rename the "
+        "dummies (sum r1;) after each substitution.")
     if names.renamed:
         header += ["*"] + _comment_block("Renamed for FORM: " + ", ".join(f"{new} = {old}"
                                                                            for new, old in names.renamed) + ".")
-    lines = header + ["", f"Symbols {', '.join(symbols + fields)};" if symbols or fields else "",
+    plain = declared["indices"] | declared["lines"]
+    indices = [_sorted(plain)] + ([_sorted(f"{name}={dim}" for name, dim in dims.items())] if dims else [])
+    lines = header + ["", "* declarations",
+                      f"Symbols {', '.join(symbols + fields)};" if symbols or fields else "",
                       f"Vectors {_sorted(declared['vectors'])};",
-                      f"Indices {_sorted(declared['indices'] | declared['lines'])};",
-                      f"CFunctions {', '.join(functions)};", "", "* vertices"]
+                      f"Indices {', '.join(indices)};",
+                      "* non-commuting, so that spin lines keep their order",
+                      "Functions vtx, prop;",
+                      f"CFunctions {', '.join(functions)};", "",
+                      "* substitutions, run where the program calls them",
+                      "#procedure vsvertices()"]
     lines += statements
-    lines += ["", "* propagators"] + propagators
+    lines += ["#endprocedure", "", "#procedure vspropagators()"] + propagators
+    lines += ["#endprocedure", "", "#procedure vsrules()", "#call vsvertices()", "#call vspropagators()",
+              "#endprocedure"]
     return "\n".join(line for line in lines) + "\n"
 
 
