@@ -191,3 +191,14 @@ def test_hand_rules_read_the_alternating_tensor(tmp_path, capsys) -> None:
     # the second is written with its indices swapped: antisymmetry makes it the negative
     assert "equal        vertex bar(Q) u dag(H)" in out
     assert "equal        vertex bar(u) Q H" not in out and "vertex bar(u) Q H" in out
+
+
+def test_closed_delta_loop_after_contraction_is_the_trace() -> None:
+    # eps_ij eps_ik delta_jk = delta_jk delta_jk = delta_jj = 2 for SU(2) (common practice):
+    # -c/6 (2) S^3 gives the vertex -i 2 c, not the 4 of a Lorentz trace
+    text = UP.replace("KINETIC", "dag(D[mu] H) D[mu] H").replace(
+        "  dirac  u charge hyper 2/3\n", "  dirac  u charge hyper 2/3\n  scalar S\n").replace(
+        "  - yu bar(Q[i])", "  1/2 d[mu] S d[mu] S - c/6 alt[i,j] alt[i,k] delta[j,k] S^3\n  - yu bar(Q[i])").replace(
+        "  coupling lam = 0.13\n", "  coupling lam = 0.13\n  coupling c = 0.7\n")
+    vertex = vs.load_model(text=text, name="trace.vsm").derive().vertex("S", "S", "S")
+    assert complex(vertex.evaluate(np.zeros((3, 4)))) == pytest.approx(-2j * 0.7)

@@ -582,7 +582,7 @@ class _Builder:
     def _alternating_hint(self, name: str, count: int) -> str:
         """For an epsilon-like name with group indices: how to write the alternating tensor of the model's groups."""
         base, _, suffix = _ALIASES.get(name, name).partition("_")
-        if base.lower() not in ("eps", "epsilon", "levi", "civita", "leviciv", "lc", "ε"):
+        if not base.lower().startswith(("eps", "ε", "levi", "civita", "lc")):
             return ""
         ranks = {g.name: int(g.rank) for g in self.syntax.gauges if g.group == "SU" and g.rank.isdigit()}
         matching = [g for g, n in sorted(ranks.items()) if g == suffix or (not suffix and n == count)]
