@@ -15,7 +15,8 @@ import vertexsmith as vs
 from vertexsmith._resources import shipped_models
 
 PUBLIC = ["DerivationError", "Leg", "Model", "ModelMeaningError", "ModelSyntaxError", "Propagator", "Rules",
-          "UsageError", "Vertex", "VertexsmithError", "__version__", "example", "load_model"]
+          "UsageError", "Vertex", "VertexsmithError", "__version__", "amplitude", "example", "find_diagrams",
+          "load_model", "verify_model"]
 
 
 def test_the_public_namespace_is_pinned():

@@ -21,13 +21,17 @@ from .errors import DerivationError, ModelMeaningError, ModelSyntaxError, UsageE
 
 if TYPE_CHECKING:
     from .pipeline import Model, load_model
+    from .amplitudes import amplitude
+    from .diagrams import find_diagrams
     from .rules import Leg, Propagator, Rules, Vertex
+    from .verify import verify_model
 
 __version__ = "0.1.0"
 
 # public name -> the module that defines it; imported when the name is first asked for
 _LAZY = {"load_model": ".pipeline", "Model": ".pipeline", "Rules": ".rules", "Vertex": ".rules",
-         "Propagator": ".rules", "Leg": ".rules"}
+         "Propagator": ".rules", "Leg": ".rules", "amplitude": ".amplitudes", "find_diagrams": ".diagrams",
+         "verify_model": ".verify"}
 
 
 def example(name: str) -> Path:
@@ -48,7 +52,8 @@ def __getattr__(name: str) -> Any:
     return value
 
 
-__all__ = ["load_model", "example", "Model", "Rules", "Vertex", "Propagator", "Leg", "VertexsmithError",
+__all__ = ["load_model", "example", "Model", "Rules", "Vertex", "Propagator", "Leg", "amplitude", "find_diagrams",
+           "verify_model", "VertexsmithError",
            "ModelSyntaxError", "ModelMeaningError", "DerivationError", "UsageError", "__version__"]
 
 

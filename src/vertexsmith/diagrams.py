@@ -80,9 +80,16 @@ def _slots_of(rules: "Rules") -> _Slots:
     return _Slots(tuple(v.labels for v in rules.vertices), conjugate, frozenset(grassmann), frozenset(majorana))
 
 
-def find_diagrams(rules: "Rules", process: "Process", loops: int = 0, *, external_self_energies: bool = True,
+def find_diagrams(rules: "Rules", process: "Process | str", loops: int = 0, *, external_self_energies: bool = True,
                   tadpoles: bool = True) -> tuple[Diagram, ...]:
-    """Every distinct connected diagram of the process with the given number of loops, in a fixed order."""
+    """Every distinct connected diagram of the process with the given number of loops, in a fixed order.
+
+    process: a `Process` or its text, e.g. ``"ele bar(ele) -> ele bar(ele)"``.
+    """
+    if isinstance(process, str):
+        from .process import parse_process
+
+        process = parse_process(rules.model, process)
     if loops not in (0, 1, 2):
         raise UsageError(f"the census counts diagrams with 0, 1 or 2 loops, not {loops}")
     slots = _slots_of(rules)
