@@ -145,7 +145,7 @@ def _number(expr: sympy.Expr, values: dict[sympy.Symbol, complex]) -> complex:
 
 def _rational(expr: sympy.Expr, variable: sympy.Symbol) -> Callable[[np.ndarray], np.ndarray]:
     """A rational function of one variable as numerator and denominator polynomials for numpy."""
-    numerator, denominator = sympy.fraction(sympy.together(sympy.nsimplify(expr, rational=False)))
+    numerator, denominator = sympy.fraction(sympy.together(expr))
     top = [complex(c) for c in sympy.Poly(numerator, variable).all_coeffs()]
     bottom = [complex(c) for c in sympy.Poly(denominator, variable).all_coeffs()]
     return lambda x: np.polyval(top, x) / np.polyval(bottom, x)
