@@ -116,6 +116,14 @@ def test_progress_bars_show_the_derivation_stages(monkeypatch):
     assert "deriving vertices" in shown and "deriving propagators" in shown
 
 
+def test_the_checks_announce_their_progress(monkeypatch):
+    monkeypatch.setattr(progress, "_DELAY", 0.0)
+    stream = _Terminal()
+    with progress.shown(True, stream):
+        vs.load_model(vs.example("qed")).check()
+    assert "checking the model" in stream.getvalue()
+
+
 def test_no_progress_output_without_a_listener(capsys):
     vs.load_model(vs.example("qcd")).derive()
     assert capsys.readouterr() == ("", "")

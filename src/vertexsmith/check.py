@@ -39,6 +39,7 @@ import numpy as np
 import sympy
 
 from . import model as m
+from . import progress
 from .derive import (canonical_legs, check_chains, derive_rules, make_legs, monomial_terms, quadratic_kernel,
                      species_of)
 from .errors import Source, Span, VertexsmithError, format_diagnostic
@@ -216,16 +217,20 @@ class _Checker:
                 self.add_error(error)
             else:
                 good.append(mono)
+        step = progress.stage("checking the model", total=3)  # a bar on a terminal
         self.check_charges(good)
         # a term whose index lines cannot be contracted is reported once, here, and not derived below
         broken = self.check_invariance(good)
         good = [mono for mono in good if mono.origin.line not in broken]
+        step.advance()
         self.check_dimensions(good)
         self.check_tadpoles(good)
         self.check_mixing(good)
         self.check_quadratic(good)
+        step.advance()
         self.check_hermiticity(good)
         self.check_derivation(monomials)
+        step.advance()
         unique = {(d.severity, d.message, d.span, d.hint): d for d in self.diagnostics}
         return sorted(unique.values(), key=Diagnostic.sort_key)
 

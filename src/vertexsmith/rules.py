@@ -123,7 +123,7 @@ class CouplingPart:
     coupling: sympy.Expr
     lorentz: sympy.Expr
     group: sympy.Expr
-    terms: tuple[VertexTerm, ...]
+    terms: tuple[VertexTerm, ...] = dataclasses.field(repr=False)  # the canonical form; long, so not in repr
 
     @cached_property
     def latex_pieces(self) -> tuple[str, str, str]:

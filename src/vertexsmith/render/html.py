@@ -30,7 +30,7 @@ if TYPE_CHECKING:
     from ..model import Model
     from ..rules import Rules
 
-_KEY = (("dashed", "scalar"), ("fermion", "fermion (arrow: particle flow)"), ("wavy", "vector"),
+_KEY = (("dashed", "scalar"), ("fermion", "fermion (arrow: particle flow; Majorana: the fermion flow)"), ("wavy", "vector"),
         ("curly", "gluon-like vector (adjoint of SU(N), N >= 3)"), ("dotted", "ghost"))
 
 
