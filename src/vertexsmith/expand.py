@@ -18,6 +18,7 @@ import sympy
 
 from . import model as m
 from .errors import DerivationError, ModelMeaningError, Span
+from .symbolic import is_plain_product  # noqa: F401 - derive reads it from here too
 from .fermion_flow import reversed_chain
 from .structures import permutation_sign
 
@@ -487,17 +488,6 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
         if coefficient != 0:
             out.append(Monomial(coefficient, atoms, term.span))
     return out
-
-
-def is_plain_product(expr: sympy.Expr) -> bool:
-    """A rational number, i, symbols and positive integer powers of symbols, multiplied: `-3 i g**2/4`.
-
-    Such a coefficient is already what expand() and factor() would return, so both are skipped
-    for it (they cost more than the rest of a vertex's derivation).
-    """
-    factors = expr.args if isinstance(expr, sympy.Mul) else (expr,)
-    return all(f.is_Rational or f is sympy.I or f.is_Symbol
-               or (f.is_Pow and f.base.is_Symbol and f.exp.is_Integer and f.exp > 0) for f in factors)
 
 
 def expand_model(model: m.Model) -> tuple[Monomial, ...]:

@@ -19,7 +19,7 @@ from .errors import UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
 from .fermion_flow import FERMION_FLOW_TEXT
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
-from .symbolic import (factor_text, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
+from .symbolic import (factor_text, is_plain_product, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
@@ -198,7 +198,9 @@ class Vertex:
         for term in self.terms:
             for base, members in groups:
                 ratio = term.coefficient / base
-                if not ratio.is_Rational:  # only a ratio sympy did not reduce by itself needs simplify
+                # only a ratio sympy did not reduce by itself needs simplify; between two plain products
+                # (numbers, i, symbols) sympy cancels everything there is, so a symbol left means no number
+                if not ratio.is_Rational and not (is_plain_product(term.coefficient) and is_plain_product(base)):
                     ratio = sympy.nsimplify(sympy.simplify(ratio))
                 if ratio.is_Rational:
                     members.append((ratio, term))

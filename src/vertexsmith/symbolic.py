@@ -447,3 +447,14 @@ _LATIN_LOOKALIKE = {"Alpha": "A", "Beta": "B", "Epsilon": "E", "Zeta": "Z", "Eta
 
 _GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa", "lambda", "mu",
           "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi", "omega", "lam"}
+
+
+def is_plain_product(expr: sympy.Expr) -> bool:
+    """A rational number, i, symbols and positive integer powers of symbols, multiplied: `-3 i g**2/4`.
+
+    Such a coefficient is already what expand() and factor() would return, so both are skipped
+    for it (they cost more than the rest of a vertex's derivation).
+    """
+    factors = expr.args if isinstance(expr, sympy.Mul) else (expr,)
+    return all(f.is_Rational or f is sympy.I or f.is_Symbol
+               or (f.is_Pow and f.base.is_Symbol and f.exp.is_Integer and f.exp > 0) for f in factors)
