@@ -278,9 +278,41 @@ def test_global_symmetries_in_the_json_output() -> None:
 
     rules = vs.load_model(vs.example("dark_doublet")).derive()
     data = json.loads(render(rules, "json"))
-    assert data["symmetries"] == [{"kind": "Z", "name": "darkpar", "order": 2},
-                                  {"kind": "U1", "name": "lepton", "order": 1}]
+    assert data["symmetries"] == [{"kind": "Z", "name": "darkpar", "order": 2, "soft": False},
+                                  {"kind": "U1", "name": "lepton", "order": 1, "soft": False}]
     fields = {f["name"]: f for f in data["fields"]}
     assert fields["N"]["global_charges"] == [{"charge": "1", "symmetry": "lepton"},
                                              {"charge": "1", "symmetry": "darkpar"}]
     assert fields["H"]["global_charges"] == []
+
+
+SOFT = """\
+theory t
+parameters
+  coupling c = 0.1
+  mass m = 2.0
+global
+  hz Z(2) soft
+fields
+  scalar A real mass m
+  scalar B real mass m charge hz 1
+lagrangian
+  1/2 d[mu] A d[mu] A + 1/2 d[mu] B d[mu] B - 1/2 m^2 A^2 - 1/2 m^2 B^2
+"""
+
+
+def test_a_soft_symmetry_allows_breaking_below_dimension_four() -> None:
+    # A^2 B (dimension 3) breaks hz softly: a note; A^3 B (dimension 4) is an error as before
+    model = vs.load_model(text=SOFT + "  - c m A^2 B - c A^3 B\n", name="t.vsm")
+    found = [(d.severity, d.span.line, d.span.column, d.message) for d in check_model(model)
+             if "'hz'" in d.message]
+    assert found == [("note", 12, 9, "term breaks the Z(2) symmetry 'hz' softly (an operator of mass dimension 3)"),
+                     ("error", 12, 19, "term is odd under the Z(2) symmetry 'hz'")]
+
+
+def test_only_soft_is_understood_after_a_global_symmetry() -> None:
+    with pytest.raises(ModelMeaningError) as info:
+        vs.load_model(text=SOFT.replace("hz Z(2) soft", "hz Z(2) gently"), name="t.vsm")
+    error = info.value
+    assert (error.span.line, error.span.column, error.message) == (
+        6, 11, "unknown word 'gently' after the global symmetry 'hz'")

@@ -110,10 +110,16 @@ class _Builder:
     def _build_symmetries(self) -> None:
         for s in self.syntax.globals_:
             order = int(s.order) if s.order.isdigit() else 0
+            if s.option not in (None, "soft"):
+                raise ModelMeaningError(f"unknown word '{s.option}' after the global symmetry '{s.name}'",
+                                        s.option_span or s.span,
+                                        "write 'soft' to allow terms of mass dimension below 4 to break it, "
+                                        "or nothing")
+            soft = s.option == "soft"
             if s.kind == "U" and order == 1:
-                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "U1", 1, s.span)
+                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "U1", 1, s.span, soft)
             elif s.kind == "Z" and 2 <= order <= 1000:
-                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "Z", order, s.span)
+                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "Z", order, s.span, soft)
             else:
                 raise ModelMeaningError(f"unknown global symmetry '{s.kind}({s.order})'", s.kind_span,
                                         "write U(1) for a conserved charge or Z(N) (N from 2 to 1000) for a "

@@ -44,7 +44,7 @@ from .derive import (canonical_legs, check_chains, derive_rules, make_legs, mono
                      species_of)
 from .errors import Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, expand_model
-from .invariance import find_violations, show_net_charges
+from .invariance import find_violations, operator_dimension, show_net_charges
 from .rules import P2, Vertex, VertexTerm
 
 SEVERITIES = ("error", "warning", "note")
@@ -106,15 +106,6 @@ def conjugate_monomial(model: m.Model, mono: Monomial) -> Monomial:
         else:
             atoms.append(atom)  # g, eps, f^abc and deltas are real
     return Monomial(sympy.expand(coefficient), tuple(atoms), mono.origin)
-
-
-def operator_dimension(model: m.Model, mono: Monomial) -> Fraction:
-    """Mass dimension of a monomial's operator: bosons 1, fermions 3/2, each derivative 1."""
-    total = Fraction(0)
-    for atom in mono.fields:
-        total += Fraction(3, 2) if model.fields[atom.field].is_fermion else Fraction(1)
-        total += len(atom.derivatives)
-    return total
 
 
 # ------------------------------------------------------------------ helpers
@@ -256,7 +247,7 @@ class _Checker:
         """
         broken: set[int] = set()
         for finding in find_violations(self.model, monomials):
-            self.add("error", finding.message, finding.span, finding.hint)
+            self.add(finding.severity, finding.message, finding.span, finding.hint)
             if finding.blocks_derivation:
                 broken.add(finding.line)
         return broken

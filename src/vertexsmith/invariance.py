@@ -52,6 +52,7 @@ class Finding:
     hint: str
     line: int = 0  # the Lagrangian line of the term
     blocks_derivation: bool = False  # the term's indices cannot be contracted at all
+    severity: str = "error"  # a soft breaking of a symmetry declared `soft` is a note
 
 
 @dataclass(frozen=True)
@@ -67,7 +68,7 @@ def find_violations(model: m.Model, monomials: Iterable[Monomial]) -> list[Findi
     """The first SU(N) violation of each Lagrangian line and group, and one finding per line and
     broken global symmetry (naming every net charge of the line once), in line order."""
     found: dict[tuple[int, str], Finding] = {}
-    charges: dict[tuple[int, str], tuple[Span, set[Fraction]]] = {}
+    charges: dict[tuple[int, str], tuple[Span, set[Fraction], Fraction]] = {}
     groups = [g for g in model.groups.values() if not g.abelian]
     for mono in monomials:
         for group in groups:
@@ -78,11 +79,14 @@ def find_violations(model: m.Model, monomials: Iterable[Monomial]) -> list[Findi
         for symmetry in model.symmetries.values():
             total = _net_charge(model, mono, symmetry)
             if not symmetry.conserved(total):
-                key = (mono.origin.line, symmetry.name)
-                charges.setdefault(key, (_fields_span(mono), set()))[1].add(
+                # a symmetry declared soft may be broken by operators of dimension below 4
+                dimension = operator_dimension(model, mono) if symmetry.soft else Fraction(4)
+                key = (mono.origin.line, symmetry.name + ("#soft" if dimension < 4 else ""))
+                charges.setdefault(key, (_fields_span(mono), set(), dimension))[1].add(
                     total if symmetry.kind == "U1" else total % symmetry.order)
-    for (line, name), (span, totals) in charges.items():
-        found[(line, name)] = _charge_finding(model.symmetries[name], totals, span)
+    for (line, name), (span, totals, dimension) in charges.items():
+        symmetry = model.symmetries[name.removesuffix("#soft")]
+        found[(line, name)] = _charge_finding(symmetry, totals, span, dimension)
     return sorted(found.values(), key=lambda f: (f.span.line, f.span.column))
 
 
@@ -246,14 +250,28 @@ def _net_charge(model: m.Model, mono: Monomial, symmetry: m.GlobalSymmetry) -> F
     return total
 
 
-def _charge_finding(symmetry: m.GlobalSymmetry, totals: set[Fraction], span: Span) -> Finding:
+def operator_dimension(model: m.Model, mono: Monomial) -> Fraction:
+    """Mass dimension of a monomial's operator: bosons 1, fermions 3/2, each derivative 1."""
+    total = Fraction(0)
+    for atom in mono.fields:
+        total += Fraction(3, 2) if model.fields[atom.field].is_fermion else Fraction(1)
+        total += len(atom.derivatives)
+    return total
+
+
+def _charge_finding(symmetry: m.GlobalSymmetry, totals: set[Fraction], span: Span,
+                    dimension: Fraction = Fraction(4)) -> Finding:
+    if dimension < 4:
+        return Finding(f"term breaks the {symmetry.label} symmetry '{symmetry.name}' softly (an operator of mass "
+                       f"dimension {dimension})", span, f"'{symmetry.name}' is declared soft, so this is allowed; "
+                       "terms of dimension 4 and above must respect it", span.line, severity="note")
     if symmetry.kind == "Z":
         shown = " or ".join(str(q) for q in sorted(totals))
         what = "odd" if symmetry.order == 2 else f"of charge {shown} mod {symmetry.order}"
         message = f"term is {what} under the {symmetry.label} symmetry '{symmetry.name}'"
         hint = ("the charges of the fields of every term must add up to 0 mod "
-                f"{symmetry.order} (bar() and dag() fields count with the opposite sign); if the breaking is "
-                "intended, remove the symmetry from the global section")
+                f"{symmetry.order} (bar() and dag() fields count with the opposite sign); a breaking by mass terms "
+                "is allowed when the symmetry is declared soft (`NAME Z(N) soft`)")
     else:
         message = f"term breaks the global U(1) symmetry '{symmetry.name}': its {show_net_charges(totals)}"
         hint = ("the charges of every term must add up to 0 (bar() and dag() fields count with the opposite sign): "
@@ -271,4 +289,4 @@ def _fields_span(mono: Monomial) -> Span:
     return Span(first.line, first.column, last.end_line, last.end_column)
 
 
-__all__ = ["Finding", "find_violations", "show_net_charges"]
+__all__ = ["Finding", "find_violations", "operator_dimension", "show_net_charges"]

@@ -127,6 +127,7 @@ class GlobalSymmetry:
     kind: str
     order: int
     span: Span = dataclasses.field(compare=False)
+    soft: bool = False  # terms of mass dimension below 4 may break it (a note, not an error)
 
     def conserved(self, total: Fraction) -> bool:
         """Whether a term of this total charge respects the symmetry (Z(N): total = 0 mod N)."""

@@ -285,8 +285,10 @@ class _ToSyntax(_Operators):
                             attrs.get("coupling"), attrs.get("fixing"), _span(meta), tuple(spans))
 
     def global_decl(self, meta: Any, children: list[Any]) -> sx.GlobalDecl:
+        option = children[3] if len(children) > 3 else None
         return sx.GlobalDecl(str(children[0]), str(children[1]), str(children[2]), _span(meta),
-                             _token_span(children[1]))
+                             _token_span(children[1]), str(option) if option is not None else None,
+                             _token_span(option) if option is not None else None)
 
     def definition(self, meta: Any, children: list[Any]) -> sx.Definition:
         indices = children[1] if len(children) == 3 else ()

@@ -165,6 +165,8 @@ class GlobalDecl:
     order: str
     span: Span = field(compare=False)
     kind_span: Span = field(compare=False, default=Span(0, 0, 0, 0))
+    option: str | None = None  # the word after the group (`soft`), checked when the model is built
+    option_span: Span | None = field(compare=False, default=None)
 
 
 @dataclass(frozen=True)

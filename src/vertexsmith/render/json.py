@@ -196,7 +196,8 @@ def rules_to_dict(rules: "Rules") -> dict[str, Any]:
         "conventions": conventions_to_dict(rules),
         "parameters": [_parameter(p) for p in model.parameters.values()],
         "groups": [_group(rules, g) for g in model.groups.values()],
-        "symmetries": [{"name": x.name, "kind": x.kind, "order": x.order} for x in model.symmetries.values()],
+        "symmetries": [{"name": x.name, "kind": x.kind, "order": x.order, "soft": x.soft}
+                       for x in model.symmetries.values()],
         "fields": [_field(f) for f in model.fields.values()],
         "vertices": [_vertex(v) for v in rules.vertices],
         "propagators": [_propagator(model, p) for p in rules.propagators],
