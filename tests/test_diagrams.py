@@ -191,3 +191,22 @@ def test_cli_text_and_errors(capsys):
     assert err.startswith("process:1:26: error: 'tau' is not a field of this model")
     assert main(["diagrams", "qed", "ele bar(ele) -> muon bar(muon)", "--loops", "3"]) == 2
     assert "--loops takes 0, 1 or 2" in capsys.readouterr().err
+
+
+def test_outputs_do_not_depend_on_the_hash_seed(tmp_path):
+    # common practice, no source: the same input gives the same bytes, whatever PYTHONHASHSEED is
+    import os
+    import subprocess
+    import sys
+
+    outputs = []
+    for seed in ("0", "4242"):
+        env = dict(os.environ, PYTHONHASHSEED=seed)
+        census_run = subprocess.run([sys.executable, "-m", "vertexsmith", "diagrams", "qcd", "G -> G", "--loops", "1",
+                                     "--format", "json"], capture_output=True, text=True, env=env, check=True)
+        verify_run = subprocess.run([sys.executable, "-m", "vertexsmith", "verify", "qcd", "u bar(u) -> G G",
+                                     "--points", "2", "--format", "json"], capture_output=True, text=True, env=env,
+                                    check=True)
+        outputs.append((census_run.stdout, verify_run.stdout))
+    assert outputs[0] == outputs[1]
+    assert json.loads(outputs[0][0])["count"] == 9  # with the two tadpoles
