@@ -210,3 +210,19 @@ def test_outputs_do_not_depend_on_the_hash_seed(tmp_path):
         outputs.append((census_run.stdout, verify_run.stdout))
     assert outputs[0] == outputs[1]
     assert json.loads(outputs[0][0])["count"] == 9  # with the two tadpoles
+
+
+def test_closed_fermion_loops_flip_the_sign_at_one_loop(shipped):
+    # a closed fermion loop brings a factor -1 (Peskin & Schroeder sec. 4.7, from memory): the two vacuum
+    # polarisation diagrams of e+ e- -> mu+ mu- have the opposite sign to the tree diagram, the vertex
+    # corrections and boxes (no closed loop) the same sign
+    from vertexsmith.diagrams import fermion_loops
+
+    rules = shipped("qed").derive()
+    (tree,) = census(rules, "ele bar(ele) -> muon bar(muon)")
+    loops = census(rules, "ele bar(ele) -> muon bar(muon)", 1, external_self_energies=False, tadpoles=False)
+    assert len(loops) == 6
+    closed = [d for d in loops if fermion_loops(rules, d)]
+    assert len(closed) == 2
+    assert all(d.sign == -tree.sign for d in closed)
+    assert all(d.sign == tree.sign for d in loops if d not in closed)

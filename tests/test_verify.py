@@ -102,3 +102,18 @@ def test_bad_input_is_reported_without_traceback(capsys):
     assert "process:1:26: error: 'tau' is not a field of this model" in capsys.readouterr().err
     assert main(["verify", "qed", "--points", "0"]) == 2
     assert "--points takes a number from 1 to 10000" in capsys.readouterr().err
+
+
+def test_a_wrong_contact_term_makes_massive_vector_production_grow():
+    # tree unitarity (Lee, Quigg & Thacker, Phys. Rev. D 16 (1977) 1519, from memory): with the X X s s*
+    # contact term of the covariant derivative the longitudinal growth of single diagrams cancels; with it
+    # changed, the sum grows like the single diagrams (the analogue of a changed WWZ coupling)
+    text = vertexsmith.example("dark_sector").read_text()
+    line = next(line for line in text.splitlines() if "dag(D[mu] s) D[mu] s" in line)
+    wrong = vertexsmith.load_model(text=text.replace(line, line + "\n  + gx^2 X[mu] X[mu] dag(s) s"), name="w.vsm")
+    right = vertexsmith.load_model(vertexsmith.example("dark_sector"))
+    for model, verdict in ((right, "pass"), (wrong, "FAIL")):
+        (growth,) = [c for c in verify_model(model, ["s dag(s) -> X X"], points=3).checks
+                     if c.identity == "high-energy growth"]
+        assert growth.verdict == verdict
+        assert "largest single diagram ~ s^2.00" in growth.detail
