@@ -316,3 +316,67 @@ def test_only_soft_is_understood_after_a_global_symmetry() -> None:
     error = info.value
     assert (error.span.line, error.span.column, error.message) == (
         6, 11, "unknown word 'gently' after the global symmetry 'hz'")
+
+
+# ---------------------------------------------------------------- the check against the group action itself
+
+PAIR = """\
+theory t
+parameters
+  coupling g = 0.6
+  coupling c = 0.1
+gauge
+  weak SU(2) boson W strength WS coupling g
+fields
+  vector W
+  scalar phi complex in weak doublet
+  scalar chi complex in weak doublet
+  scalar S
+lagrangian
+  -1/4 WS[mu,nu] WS[mu,nu]
+  dag(D[mu] phi) D[mu] phi + dag(D[mu] chi) D[mu] chi + 1/2 d[mu] S d[mu] S
+"""
+
+
+def _random_su2(seed: int):
+    import numpy as np
+
+    # exp(i theta.sigma/2) = cos(|theta|/2) + i sin(|theta|/2) n.sigma
+    pauli = [np.array([[0, 1], [1, 0]]), np.array([[0, -1j], [1j, 0]]), np.array([[1, 0], [0, -1]])]
+    theta = np.random.default_rng(seed).normal(size=3)
+    angle = float(np.linalg.norm(theta))
+    n_sigma = sum(t * s for t, s in zip(theta / angle, pauli))
+    return np.cos(angle / 2) * np.eye(2) + 1j * np.sin(angle / 2) * n_sigma
+
+
+@pytest.mark.parametrize("term", [
+    "c phi[i] phi[i] S",
+    "c dag(phi[i]) chi[i] S",
+    "c alt[i,j] phi[i] chi[j] S",
+    "c alt[i,j] phi[i] dag(chi[j]) S",
+    "c alt[i,j] dag(phi[i]) dag(chi[j]) S",
+    "c phi[i] delta[i,j] chi[j] S",
+    "c dag(phi[i]) T[a,i,j] chi[j] dag(chi[k]) T[a,k,l] phi[l]",
+    "c dag(phi[i]) T[a,i,j] chi[j] chi[k] T[a,k,l] phi[l]",
+    "c alt[i,j] alt[k,l] phi[i] chi[j] dag(phi[k]) dag(chi[l])",
+])
+def test_the_check_agrees_with_the_group_action(term: str) -> None:
+    # the vertex tensor V of the term is invariant when transforming every unconjugated doublet leg
+    # with U and every conjugated one with U* leaves it unchanged (common practice, no source)
+    import numpy as np
+
+    model = vs.load_model(text=PAIR + "  " + term + "\n", name="t.vsm")
+    flagged = any("invariant under SU(2)" in d.message for d in check_model(model))
+    [vertex] = [v for v in model.derive().vertices if v.origins == (15,)]
+    value = vertex.evaluate(np.zeros((len(vertex.legs), 4)))
+    u = _random_su2(7)
+    rotated = value
+    axis = 0  # scalar legs: one axis per doublet leg, none for the singlet
+    for leg in vertex.legs:
+        if leg.field in ("phi", "chi"):
+            matrix = u.conj() if leg.conjugate else u
+            rotated = np.moveaxis(np.tensordot(matrix, rotated, axes=([0], [axis])), 0, axis)
+            axis += 1
+    invariant = np.allclose(rotated, value)
+    assert np.abs(value).max() > 0.01
+    assert flagged == (not invariant)

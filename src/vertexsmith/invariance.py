@@ -219,9 +219,12 @@ def _group_violation(model: m.Model, mono: Monomial, group: m.GaugeGroup) -> Fin
 def _contraction_hint(model: m.Model, group: m.GaugeGroup, conjugated: bool, first: str, second: str) -> str:
     alt = "alt" if sum(1 for g in model.groups.values() if not g.abelian) == 1 else f"alt_{group.name}"
     indices = ",".join("ijklmn"[:group.rank])
-    name = second[4:-1] if second.startswith(("dag(", "bar(")) else second
-    conjugate = "bar" if model.fields[name].is_fermion else "dag"
-    pair = f"{conjugate}({name}[i]) ... {name}[i]"
+    names = [x[4:-1] if x.startswith(("dag(", "bar(")) else x for x in (second, first)]
+    name = next((x for x in names if x in model.fields), None)  # an end may be a generator, not a field
+    if name is None:
+        pair = "dag(x[i]) ... x[i]"
+    else:
+        pair = f"{'bar' if model.fields[name].is_fermion else 'dag'}({name}[i]) ... {name}[i]"
     if conjugated:
         return (f"pair each conjugated field with an unconjugated one, as in {pair}, or contract "
                 f"{group.rank} conjugated fundamentals through {alt}[{indices}]")
