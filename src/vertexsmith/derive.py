@@ -327,7 +327,8 @@ def monomial_terms(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> lis
         factor, structure = _structure(model, mono, mapping)
         if structure is None or factor == 0:
             continue
-        out.append((sympy.I * mono.coefficient * sign * multiplicity * factor, structure))
+        # one product instead of four: the integers multiplied first, sympy's Mul built once
+        out.append((sympy.Mul(sympy.I, mono.coefficient, sympy.Integer(sign * multiplicity), factor), structure))
     return out
 
 
@@ -336,7 +337,7 @@ def monomial_terms(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> lis
 def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.Expr, Structure]]:
     total: dict[Structure, sympy.Expr] = {}
     for coefficient, structure in pairs:
-        total[structure] = total.get(structure, sympy.Integer(0)) + coefficient
+        total[structure] = total[structure] + coefficient if structure in total else coefficient
     out = []
     for structure, coefficient in total.items():
         c = coefficient if is_plain_product(coefficient) else sympy.factor(sympy.expand(coefficient))
