@@ -30,7 +30,7 @@ from .kinematics import bar, fermion_spin_sum, lower, polarisations, u_spinors, 
 from .process import Process, State, parse_process
 
 if TYPE_CHECKING:
-    from .rules import Rules
+    from .rules import Leg, Rules
 
 
 @dataclass(frozen=True)
@@ -151,9 +151,10 @@ class Amplitude:
                 colour = self._contract(d, "colour", [parts[v][c][1][None] for v, c in enumerate(choice)], flow, wave,
                                         table)[0]
                 _merge(out, d.sign * spin / 1j, colour)
-        if not out:
-            shape = (len(p),) + (1,) * len(masses)
-            out.append((np.zeros(shape, dtype=complex), np.zeros((1,) * 0, dtype=complex)))
+        if not out:  # every vertex of every diagram vanished at these values
+            spin_shape = (len(p),) + tuple(w.shape[1] for w in wave)
+            colour_shape = tuple(c for ext in self._externals() for c in ext.colours)
+            out.append((np.zeros(spin_shape, dtype=complex), np.zeros(colour_shape, dtype=complex)))
         return out
 
     # ---------------------------------------------------------------- pieces
@@ -300,8 +301,9 @@ def _values_key(values: Mapping[str, complex] | None) -> tuple:
     return tuple(sorted((str(k), complex(v)) for k, v in (values or {}).items()))
 
 
-def _spin_axes(leg: object) -> int:
-    return sum(1 for axis in getattr(leg, "axes") if axis[0] != "group")
+def _spin_axes(leg: "Leg") -> int:
+    """How many Lorentz and spinor axes a leg has (0 or 1)."""
+    return sum(1 for axis in leg.axes if axis[0] != "group")
 
 
 def _merge(out: list[tuple[np.ndarray, np.ndarray]], spin: np.ndarray, colour: np.ndarray) -> None:

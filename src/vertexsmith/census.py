@@ -8,7 +8,7 @@ from __future__ import annotations
 import json
 from typing import TYPE_CHECKING, Sequence
 
-from .diagrams import Diagram, fermion_loops, line_classes, vanishes_by_charge_conjugation
+from .diagrams import Diagram, fermion_loops, line_classes, line_sides, vanishes_by_charge_conjugation
 
 if TYPE_CHECKING:
     from .process import Process
@@ -47,9 +47,7 @@ def _channel(process: "Process", d: Diagram, sides: list) -> str:
 
 def describe(rules: "Rules", process: "Process", d: Diagram) -> dict:
     """A diagram as plain data: vertices with their states, lines, channel, weights and classes."""
-    from .diagrams import _sides
-
-    sides = _sides(d)
+    sides = line_sides(d)
     names = _momentum_names(process)
     vertices = []
     for v, t in enumerate(d.vertices):

@@ -316,7 +316,7 @@ def _parity(sequence: list[int]) -> int:
 
 # ------------------------------------------------------------------ reading a diagram
 
-def _sides(d: Diagram) -> list[tuple[frozenset[int], frozenset[int]] | None]:
+def line_sides(d: Diagram) -> list[tuple[frozenset[int], frozenset[int]] | None]:
     """Per internal line: the external states on each side if the line is a bridge, else None."""
     out: list[tuple[frozenset[int], frozenset[int]] | None] = []
     for cut, (a, _, b, _) in enumerate(d.lines):
@@ -343,7 +343,7 @@ def line_classes(d: Diagram) -> tuple[str, ...]:
     """'tadpole' for a line that cuts off a piece without external states, 'external k' for a self-energy on state k."""
     n = len(d.externals)
     classes = []
-    for side in _sides(d):
+    for side in line_sides(d):
         if side is None:
             classes.append("")
         elif not side[0] or not side[1]:
