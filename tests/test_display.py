@@ -116,6 +116,20 @@ def test_progress_bars_show_the_derivation_stages(monkeypatch):
     assert "deriving vertices" in shown and "deriving propagators" in shown
 
 
+def test_nested_stages_count_on_their_own_bars(monkeypatch):
+    # the checks derive the rules inside their own stage: the outer bar must not be disturbed
+    monkeypatch.setattr(progress, "_DELAY", 0.0)
+    with progress.shown(True, _Terminal()):
+        outer = progress.stage("outer", total=2)
+        outer.advance()
+        inner = progress.stage("inner", total=3)
+        for _ in range(3):
+            inner.advance()
+        outer.advance()
+        tasks = progress._listener.get()._progress.tasks
+        assert [(t.description, t.completed, t.total) for t in tasks] == [("outer", 2, 2), ("inner", 3, 3)]
+
+
 def test_the_checks_announce_their_progress(monkeypatch):
     monkeypatch.setattr(progress, "_DELAY", 0.0)
     stream = _Terminal()

@@ -11,8 +11,8 @@ By default nobody listens and a step costs one method call. The command line tur
 around a command with `shown(enabled)`; `wanted(quiet, stream)` says whether they should be on
 (the stream is a terminal, no --quiet, no VERTEXSMITH_QUIET in the environment). The bars are
 drawn by rich on stderr, only once a command has run for half a second (so quick commands never
-flicker), and vanish when the command ends. Any stage may call `stage` again; a new stage
-finishes the one before it.
+flicker), and vanish when the command ends. Stages may nest (the checks derive the rules
+again): each stage is a bar of its own, and advancing one never touches another.
 
     >>> step = stage("nothing to show", total=3)
     >>> step.advance()
@@ -58,23 +58,15 @@ class _Bars:
                                   TimeElapsedColumn(), console=console, transient=True)
         self._started_at = time.monotonic()
         self._running = False
-        self._last: Any = None
 
     def stage(self, description: str, total: int | None) -> Step:
-        if self._last is not None:
-            self._finish(self._last)
-        self._last = self._progress.add_task(description, total=total)
+        task = self._progress.add_task(description, total=total)
         self._maybe_start()
-        return _BarStep(self, self._last)
+        return _BarStep(self, task)
 
     def advance(self, task: Any, amount: int) -> None:
         self._progress.advance(task, amount)
         self._maybe_start()
-
-    def _finish(self, task: Any) -> None:
-        found = next((t for t in self._progress.tasks if t.id == task), None)
-        if found is not None and found.total is not None:
-            self._progress.update(task, completed=found.total)
 
     def _maybe_start(self) -> None:
         if not self._running and time.monotonic() - self._started_at >= _DELAY:

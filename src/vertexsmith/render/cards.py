@@ -83,7 +83,7 @@ def propagator_card(model: "Model", propagator: "Propagator") -> str:
     """One propagator as an HTML section: picture, kind, indices, factor (MathML) and its LaTeX."""
     kind = propagator_kind(model, propagator)
     latex = propagator.latex
-    indices = " ".join(index_html(i) for i in propagator.indices) or "&#8211;"
+    indices = " ".join(index_html(i) for i in propagator.indices) or "none"
     return (f'<section class="card propagator" id="propagator-{escape(propagator.field)}">'
             f'<h3><code>{escape(propagator.field)}</code> <small>{escape(kind)}, spin {SPIN.get(kind, "?")}'
             f'</small></h3><div class="card-body"><div class="picture-box">'
