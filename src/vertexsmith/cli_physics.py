@@ -14,6 +14,7 @@ from __future__ import annotations
 import argparse
 
 from .errors import UsageError
+from .selection import add_quiet_argument, add_value_arguments
 
 
 def command_diagrams(args: argparse.Namespace) -> int:
@@ -42,7 +43,7 @@ def command_diagrams(args: argparse.Namespace) -> int:
 def command_verify(args: argparse.Namespace) -> int:
     """vertexsmith verify MODEL [PROCESS ...]: check the identities; exit 1 when one fails."""
     from .census import render_report
-    from .cli import EXIT_MODEL, EXIT_OK, emit, load, write_output
+    from .cli import EXIT_MODEL, EXIT_OK, emit, write_output
     from .verify import verify_model
 
     if args.points < 1 or args.points > 10000:
@@ -51,7 +52,9 @@ def command_verify(args: argparse.Namespace) -> int:
         raise UsageError(f"--tolerance takes a number between 0 and 1, not {args.tolerance}")
     if args.max_processes < 1:
         raise UsageError(f"--max-processes takes a positive number, not {args.max_processes}")
-    model = load(args.model)
+    from .selection import load_with_values
+
+    model = load_with_values(args)  # with --set / --values in place of the model's numbers
     report = verify_model(model, args.process, points=args.points, tolerance=args.tolerance,
                           max_mass=args.max_mass, limit=args.max_processes)
     if not report.checks:
@@ -106,4 +109,6 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
                         help="default set: at most K processes (default 40)")
     verify.add_argument("--format", "-f", choices=("text", "json"), default="text")
     verify.add_argument("-o", "--output", metavar="FILE", help="write to FILE instead of the terminal")
+    add_value_arguments(verify)
+    add_quiet_argument(verify)
     verify.set_defaults(func=command_verify)

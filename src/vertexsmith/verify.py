@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Sequence
 import numpy as np
 import sympy
 
+from . import progress
 from .amplitudes import Amplitude, amplitude
 from .diagrams import MajoranaLinesUnsupported, find_diagrams
 from .errors import UsageError
@@ -275,7 +276,9 @@ def verify_model(model: "Model", processes: Sequence[str] | None = None, *, poin
     parsed = [parse_process(model, text) for text in chosen]
     verifier = _Verifier(rules, unitary, points, tolerance)
     checks: list[Check] = []
+    step = progress.stage("verifying processes", total=len(parsed))  # a bar on a terminal
     for process in parsed:
+        step.advance()
         if not find_diagrams(rules, process, 0):
             raise UsageError(f"'{process}' has no tree-level diagram in this model",
                              hint="the process needs a chain of vertices joining all its states")
