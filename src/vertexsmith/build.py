@@ -19,6 +19,8 @@ from .errors import ModelMeaningError, Source, Span, did_you_mean
 from .groups import MAX_ALTERNATING_RANK, representation_name
 from .parse import MAX_NUMBER_DIGITS
 from .values import resolve_values_from
+from .spaces import (array_entries, check_index_spaces, check_matrix_property, field_index_counts,
+                     space_size)
 
 # built-in objects of the Lagrangian and the number of indices each takes
 _DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
@@ -60,6 +62,7 @@ class _Builder:
         self.groups_syntax = {g.name: g for g in syntax.gauges}
         self.declared: dict[str, tuple[str, Span]] = {}
         self.symmetries: dict[str, m.GlobalSymmetry] = {}
+        self.spaces: dict[str, m.IndexSpace] = {}
 
     # ------------------------------------------------------------------ declarations
     def _declare(self, name: str, what: str, span: Span) -> None:
@@ -79,6 +82,9 @@ class _Builder:
         self.declared[name] = (what, span)
 
     def build(self) -> m.Model:
+        for sp in self.syntax.spaces:
+            self._declare(sp.name, "index space", sp.span)
+            self.spaces[sp.name] = m.IndexSpace(sp.name, space_size(sp), sp.description, sp.span)
         for p in self.syntax.parameters:
             self._declare(p.name, "parameter", p.span)
         for g in self.syntax.gauges:
@@ -105,7 +111,8 @@ class _Builder:
             raise ModelMeaningError("the model has no lagrangian terms", self.syntax.theory.span,
                                     "add a 'lagrangian' section with one term per line")
         return m.Model(self.syntax.theory.name, self.syntax.theory.description, self.parameters, self.fields,
-                       self.groups, self.definitions, terms, conventions, self.source, self.symmetries)
+                       self.groups, self.definitions, terms, conventions, self.source, self.symmetries,
+                       self.spaces)
 
     def _build_symmetries(self) -> None:
         for s in self.syntax.globals_:
@@ -162,6 +169,14 @@ class _Builder:
             for used in _names_in(decl.value) if decl.value is not None else ():
                 if used in pending:
                     resolve(used)
+            if decl.spaces:
+                resolving.pop()
+                self.parameters[name] = self._array_parameter(decl)
+                return
+            if isinstance(decl.value, sx.Array):
+                raise ModelMeaningError(f"'{name}' has a braced list of values but no index spaces", decl.value.span,
+                                        f"declare its spaces: {name}[gen] = {{...}} (vector) or "
+                                        f"{name}[gen,gen] = {{{{...}}, ...}} (matrix)")
             definition = self._scalar(decl.value) if decl.value is not None else None
             resolving.pop()
             if definition is not None and definition.free_symbols == set() and not definition.is_finite:
@@ -180,8 +195,46 @@ class _Builder:
         # now the numeric values, where every symbol of a definition has one
         values = resolve_values_from(self.parameters, {})
         for name, p in list(self.parameters.items()):
+            if p.is_array:
+                check_matrix_property(p, values, self._array_value_spans(name))
+                continue
             self.parameters[name] = m.Parameter(p.name, p.roles, p.is_complex, p.definition,
                                                 values.get(p.symbol), p.description, p.span)
+
+    def _array_parameter(self, decl: sx.ParamDecl) -> m.Parameter:
+        """A vector or matrix parameter: its spaces, and its entries (numbers or formulas) if given."""
+        for index in decl.spaces:
+            if index.name not in self.spaces:
+                raise ModelMeaningError(f"unknown index space '{index.name}'", index.span,
+                                        did_you_mean(index.name, self.spaces,
+                                                     f"declare it: spaces\n  {index.name} 3"))
+        spaces = tuple(i.name for i in decl.spaces)
+        if decl.matrix and (len(spaces) != 2 or spaces[0] != spaces[1]):
+            raise ModelMeaningError(f"a {decl.matrix} parameter is a square matrix over one index space",
+                                    decl.spaces[0].span, f"write {decl.name}[{spaces[0]},{spaces[0]}]")
+        if decl.matrix == "hermitian" and decl.reality != "complex":
+            # a real hermitian matrix is symmetric; allowed, nothing more to say
+            pass
+        entries = None
+        shape = tuple(self.spaces[name].size for name in spaces)
+        if decl.value is not None:
+            items = array_entries(decl.name, decl.value, shape)
+            entries = tuple(self._scalar(item) for item in items)
+            if decl.reality == "real":
+                for item, value in zip(items, entries):
+                    if _certainly_complex(value):
+                        raise ModelMeaningError(f"parameter '{decl.name}' is declared real but this entry is "
+                                                "complex", _span_of(item),
+                                                f"declare it as: complex {decl.name}[...] = ...")
+        return m.Parameter(decl.name, decl.roles, decl.reality == "complex" or decl.matrix == "unitary", None, None,
+                           decl.description, decl.span, spaces, entries, decl.matrix, shape)
+
+    def _array_value_spans(self, name: str) -> tuple[Span, ...]:
+        decl = next(p for p in self.syntax.parameters if p.name == name)
+        if decl.value is None:
+            return ()
+        shape = tuple(self.spaces[s.name].size for s in decl.spaces)
+        return tuple(_span_of(item) for item in array_entries(name, decl.value, shape))
 
     def _build_fields(self) -> None:
         group_names = {g.name for g in self.syntax.gauges}
@@ -267,6 +320,15 @@ class _Builder:
             for g in self.syntax.gauges:
                 if g.boson == f.name and g.group == "SU":
                     representations.append((g.name, "adjoint"))
+            for index in f.spaces:
+                if index.name not in self.spaces:
+                    raise ModelMeaningError(f"unknown index space '{index.name}'", index.span,
+                                            did_you_mean(index.name, self.spaces,
+                                                         f"declare it: spaces\n  {index.name} 3"))
+                if any(g == index.name for g, _ in representations):
+                    raise ModelMeaningError(f"'{f.name}' carries '{index.name}' twice", index.span,
+                                            "give each index space once")
+                representations.append((index.name, m.FLAVOUR))
             self.fields[f.name] = m.Field(f.name, f.kind, is_complex, mass, tuple(charges), f.description, f.span,
                                           tuple(representations), tuple(global_charges))
 
@@ -331,6 +393,12 @@ class _Builder:
                 raise ModelMeaningError(f"'{node.name}' takes no index here", node.indices[0].span,
                                         "parameters and numbers carry no index")
             if node.name in self.parameters:
+                if self.parameters[node.name].is_array:
+                    p = self.parameters[node.name]
+                    raise ModelMeaningError(f"'{node.name}' is a {'vector' if len(p.spaces) == 1 else 'matrix'} "
+                                            f"parameter over {', '.join(p.spaces)}: a number is needed here",
+                                            node.span, f"use its components in the lagrangian, e.g. "
+                                            f"{node.name}[{', '.join('ijkl'[:len(p.spaces)])}]")
                 return self.parameters[node.name].symbol
             if node.name in self.declared and node.name not in self.parameters:
                 raise ModelMeaningError(f"a number is needed here, but '{node.name}' is a "
@@ -378,6 +446,8 @@ class _Builder:
     # ------------------------------------------------------------------ Lagrangian
     def _build_definition(self, d: sx.Definition) -> m.Definition:
         body = self._node(d.body)
+        if self.spaces:
+            check_index_spaces(d.body, self.fields, self.parameters, self.strengths)
         free = self._free_indices(d.body)
         declared = [i.name for i in d.indices]
         if len(set(declared)) != len(declared):
@@ -395,6 +465,8 @@ class _Builder:
 
     def _build_term(self, t: sx.LagrangianTerm) -> m.Term:
         node = self._node(t.expr, top=True)
+        if self.spaces:
+            check_index_spaces(t.expr, self.fields, self.parameters, self.strengths)
         free = self._free_indices(t.expr)
         if free:
             index = sorted(free)[0]
@@ -507,7 +579,10 @@ class _Builder:
                 raise ModelMeaningError(f"the ghost '{name}' is generated from the gauge fixing", node.span,
                                         "do not write ghost terms; they are derived automatically")
             lorentz = 1 if f.is_vector else 0
-            groups = [g for g, _ in f.representations]
+            groups = [g for g, r in f.representations if r != m.FLAVOUR]
+            flavours = [g for g, r in f.representations if r == m.FLAVOUR]
+            if flavours:
+                return self._flavoured_field(node, f, lorentz, groups, flavours)
             if len(idx) not in (lorentz, lorentz + len(groups)):
                 example = ", ".join((["mu"] if lorentz else []) + [_index_example(r) for _, r in f.representations])
                 if not groups:
@@ -571,6 +646,8 @@ class _Builder:
             return m.LTensor(builtin, idx, node.span)
         if builtin in _DERIVATIVES:
             self._check_index_count(node, 1, f"the derivative '{name}'", f"{name}[mu]")
+        if name in self.parameters and self.parameters[name].is_array:
+            return self._array_component(node, False)
         if name in self.parameters:
             raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
                                     f"write {name} without brackets")
@@ -599,6 +676,43 @@ class _Builder:
         example = ",".join("ijklmn"[:ranks[group]])
         return (f"the invariant alternating tensor of SU({ranks[group]}) group '{group}' is written "
                 f"{written}[{example}] (eps is the Lorentz epsilon)")
+
+    def _flavoured_field(self, node: sx.Symbol, f: m.Field, lorentz: int, groups: list[str],
+                         flavours: list[str]) -> m.LField:
+        """A field over index spaces: Lorentz, then group indices (all or none), then every space index."""
+        idx = tuple(i.name for i in node.indices)
+        counts = field_index_counts(lorentz, len(groups), len(flavours))
+        if len(idx) not in counts:
+            example = ", ".join((["mu"] if lorentz else []) + [_index_example(r) for g, r in f.representations
+                                                               if r != m.FLAVOUR] + ["n"] * len(flavours))
+            raise ModelMeaningError(f"'{f.name}' takes {lorentz} Lorentz, {len(groups)} group and {len(flavours)} "
+                                    f"{'/'.join(flavours)} ind{'ex' if len(flavours) == 1 else 'ices'}, not "
+                                    f"{len(idx)}", node.indices[0].span if node.indices else node.span,
+                                    f"write {f.name}[{example}]" + (" (group indices may be left implied)"
+                                                                    if groups else ""))
+        written_groups = len(idx) - lorentz - len(flavours)
+        group_indices = tuple((g, idx[lorentz + k] if written_groups else None) for k, g in enumerate(groups))
+        for g, i in group_indices:
+            if i is None and f.representation(g) == "adjoint":
+                raise ModelMeaningError(f"the adjoint index of '{f.name}' must be written", node.span,
+                                        f"write {f.name}[{', '.join((['mu'] if lorentz else []) + ['a', 'n'])}]")
+        space_indices = tuple(zip(flavours, idx[len(idx) - len(flavours):]))
+        return m.LField(f.name, False, idx[0] if lorentz else None, node.span, group_indices + space_indices)
+
+    def _array_component(self, node: sx.Symbol, conjugate: bool) -> m.LParam:
+        p = self.parameters[node.name]
+        if not p.is_array:
+            raise ModelMeaningError("conj() of a field-free factor belongs to the parameters", node.span,
+                                    f"write conj({node.name}) inside a product, e.g. conj({node.name}) phi")
+        if len(node.indices) != len(p.spaces):
+            example = ", ".join("ijkl"[:len(p.spaces)])
+            raise ModelMeaningError(f"'{p.name}' takes {len(p.spaces)} ind{'ex' if len(p.spaces) == 1 else 'ices'} "
+                                    f"({', '.join(p.spaces)}), not {len(node.indices)}",
+                                    node.indices[0].span if node.indices else node.span,
+                                    f"write {p.name}[{example}]")
+        if conjugate and not p.is_complex:
+            conjugate = False  # a real parameter is its own conjugate
+        return m.LParam(p.name, tuple(i.name for i in node.indices), conjugate, node.span)
 
     def _group_tensor(self, node: sx.Symbol) -> m.LGroup | None:
         """T[a], T[a,i,j], f[a,b,c], delta[i,j]; with several non-abelian groups T_color[a] etc."""
@@ -679,6 +793,8 @@ class _Builder:
                     raise ModelMeaningError("dag() of an expression with a fermion", node.span,
                                             "write the conjugate out with bar(), or use '+ h.c.'")
             return m.LDagger(self._node(arg), node.span)
+        if node.function == "conj" and isinstance(arg, sx.Symbol) and arg.name in self.parameters:
+            return self._array_component(arg, True)
         if node.function == "conj":
             raise ModelMeaningError("conj() takes a complex parameter, not a field", node.span,
                                     "for a field write dag(...) or bar(...)")
@@ -778,7 +894,11 @@ def _span_of(node: sx.Expr) -> Span:
     return getattr(node, "span", Span(0, 0, 0, 0))
 
 
-def _walk(node: sx.Expr) -> Iterable[sx.Expr]:
+def _walk(node: sx.Expr | sx.Array) -> Iterable[sx.Expr]:
+    if isinstance(node, sx.Array):
+        for item in node.items:
+            yield from _walk(item)
+        return
     yield node
     if isinstance(node, (sx.Call,)):
         yield from _walk(node.argument)
@@ -798,7 +918,7 @@ def _walk(node: sx.Expr) -> Iterable[sx.Expr]:
         yield from _walk(node.exponent)
 
 
-def _names_in(node: sx.Expr) -> set[str]:
+def _names_in(node: sx.Expr | sx.Array) -> set[str]:
     return {s.name for s in _walk(node) if isinstance(s, sx.Symbol)}
 
 

@@ -33,7 +33,7 @@ from __future__ import annotations
 from collections import defaultdict
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
-from typing import Iterable
+from typing import Any, Iterable
 
 import numpy as np
 import sympy
@@ -43,9 +43,10 @@ from . import progress
 from .derive import (canonical_legs, check_chains, derive_rules, make_legs, monomial_terms, quadratic_kernel,
                      species_of)
 from .errors import Source, Span, VertexsmithError, format_diagnostic
-from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, expand_model
+from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, conjugate_param, expand_model
 from .invariance import find_violations, operator_dimension, show_net_charges
 from .rules import P2, Vertex, VertexTerm
+from .spaces import random_array
 
 SEVERITIES = ("error", "warning", "note")
 
@@ -100,6 +101,8 @@ def conjugate_monomial(model: m.Model, mono: Monomial) -> Monomial:
             kind, sign = _CONJUGATE_DIRAC[atom.kind]
             coefficient = coefficient * sign
             atoms.append(replace(atom, kind=kind))
+        elif isinstance(atom, ParamAtom):
+            atoms.append(conjugate_param(model, atom))
         elif isinstance(atom, GroupAtom) and atom.kind == "T" and len(atom.indices) == 3:
             a, i, j = atom.indices  # (T^a_ij)* = T^a_ji: the generators are hermitian
             atoms.append(replace(atom, indices=(a, j, i)))
@@ -140,10 +143,13 @@ class _NumericPoint:
     def __init__(self, model: m.Model) -> None:
         self.model = model
         self.rng = np.random.default_rng(_SEED)
-        self.values: dict[str, complex] = {}
+        self.values: dict[str, Any] = {}
         for name in sorted(model.parameters):
             p = model.parameters[name]
             if p.definition is not None and p.definition.free_symbols:
+                continue
+            if p.is_array:
+                self.values[name] = random_array(self.rng, p)
                 continue
             re, im = self.rng.uniform(0.5, 1.5, size=2)
             self.values[name] = complex(re, im) if p.is_complex else complex(re)

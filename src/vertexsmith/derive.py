@@ -20,12 +20,12 @@ import sympy
 from . import model as m
 from . import progress
 from .errors import DerivationError, UsageError
-from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, TensorAtom, is_plain_product
+from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom, is_plain_product
 from .groups import dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                          GroupDummy,
-                         LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
+                         LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant,
                          Vector, canonical_structure, momentum_slots, permutation_sign, replace_slot,
                          structure_sort_key)
 
@@ -68,7 +68,7 @@ def make_legs(model: m.Model, species: list[Species]) -> tuple[Leg, ...]:
     legs = []
     for k, s in enumerate(species):
         f = model.fields[s[0]]
-        reps = tuple((g, rep, dimension(model.groups[g].rank, rep)) for g, rep in f.representations)
+        reps = tuple((g, rep, model.index_dimension(g, rep)) for g, rep in f.representations)
         legs.append(Leg(k + 1, s[0], s[1], f.kind, f.is_grassmann, reps, f.is_complex))
     return tuple(legs)
 
@@ -188,6 +188,9 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
                 atom.kind, ("fundamental",) * len(atom.indices))  # alt: one fundamental slot per index
             for n, index in enumerate(atom.indices):
                 ends[index].append(("gslot", k, n, atom.group, spaces[n]))
+        elif isinstance(atom, ParamAtom):
+            for n, (index, space) in enumerate(zip(atom.indices, model.parameters[atom.name].spaces)):
+                ends[index].append(("gslot", k, n, space, m.FLAVOUR))
         else:
             for n, index in enumerate(atom.indices):
                 ends[index].append(("slot", k, n))
@@ -250,6 +253,9 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
             elif atom.kind == "alt":
                 group_tensors.append(GroupAlternating(atom.group, tuple(fill[(k, n)]
                                                                          for n in range(len(atom.indices)))))
+        elif isinstance(atom, ParamAtom):
+            group_tensors.append(ParamTensor(atom.name, atom.conjugate,
+                                             tuple(fill[(k, n)] for n in range(len(atom.indices)))))
         elif isinstance(atom, TensorAtom):
             if atom.kind == "eps":
                 tensors.append(Epsilon((fill[(k, 0)], fill[(k, 1)], fill[(k, 2)], fill[(k, 3)])))
@@ -274,7 +280,9 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
 
 
 def _index_space(representation: str | None) -> str:
-    return "adjoint" if representation == "adjoint" else "fundamental"
+    if representation in ("adjoint", m.FLAVOUR):
+        return representation
+    return "fundamental"
 
 
 def _check_index_line(root: str, items: list[tuple], mono: Monomial) -> None:
@@ -285,7 +293,7 @@ def _check_index_line(root: str, items: list[tuple], mono: Monomial) -> None:
                               "give Lorentz and group indices different names")
     spaces = {(it[-2], it[-1]) for it in items}
     if len({g for g, _ in spaces}) > 1:
-        raise DerivationError(f"index '{name}' joins indices of different groups "
+        raise DerivationError(f"index '{name}' joins indices of different groups or index spaces "
                               f"({', '.join(sorted(g for g, _ in spaces))})", mono.origin,
                               "contract each group's indices among themselves")
     if len(spaces) > 1:
@@ -564,7 +572,7 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
 
 
 def _propagator_reps(model: m.Model, f: m.Field) -> tuple[tuple[str, str, int], ...]:
-    return tuple((g, rep, dimension(model.groups[g].rank, rep)) for g, rep in f.representations)
+    return tuple((g, rep, model.index_dimension(g, rep)) for g, rep in f.representations)
 
 
 def _no_kernel(f: m.Field) -> DerivationError:

@@ -70,7 +70,17 @@ class GroupAtom:
     span: Span = dataclasses.field(compare=False)
 
 
-Atom = Union[FieldAtom, DiracAtom, TensorAtom, GroupAtom]
+@dataclass(frozen=True)
+class ParamAtom:
+    """A component of a vector or matrix parameter, Y[i,j], or its complex conjugate."""
+
+    name: str
+    indices: tuple[str, ...]
+    conjugate: bool
+    span: Span = dataclasses.field(compare=False)
+
+
+Atom = Union[FieldAtom, DiracAtom, TensorAtom, GroupAtom, ParamAtom]
 
 
 @dataclass(frozen=True)
@@ -84,6 +94,14 @@ class Monomial:
     @property
     def fields(self) -> tuple[FieldAtom, ...]:
         return tuple(a for a in self.atoms if isinstance(a, FieldAtom))
+
+
+def conjugate_param(model: m.Model, atom: ParamAtom) -> ParamAtom:
+    """The complex conjugate of a parameter component: conj(Y[i,j]), or Y[j,i] when Y is hermitian."""
+    p = model.parameters[atom.name]
+    if p.matrix == "hermitian":
+        return replace(atom, indices=atom.indices[::-1])
+    return replace(atom, conjugate=(not atom.conjugate) if p.is_complex else False)
 
 
 @dataclass(frozen=True)
@@ -120,6 +138,8 @@ class _Expander:
                 kind, sign = _CONJUGATE_DIRAC[atom.kind]
                 coefficient = coefficient * sign
                 atoms.append(replace(atom, kind=kind))
+            elif isinstance(atom, ParamAtom):
+                atoms.append(conjugate_param(self.model, atom))
             elif isinstance(atom, GroupAtom) and atom.kind == "T" and len(atom.indices) == 3:
                 a, i, j = atom.indices  # (T^a_ij)* = T^a_ji: generators are hermitian
                 atoms.append(replace(atom, indices=(a, j, i)))
@@ -259,6 +279,10 @@ class _Expander:
                                                           node.group_indices),))]
         if isinstance(node, m.LGroup):
             return [_Partial(sympy.Integer(1), (GroupAtom(node.kind, node.group, node.indices, node.span),))]
+        if isinstance(node, m.LParam):
+            if node.conjugate and self.model.parameters[node.name].matrix == "hermitian":
+                return [_Partial(sympy.Integer(1), (ParamAtom(node.name, node.indices[::-1], False, node.span),))]
+            return [_Partial(sympy.Integer(1), (ParamAtom(node.name, node.indices, node.conjugate, node.span),))]
         if isinstance(node, m.LDirac):
             return [_Partial(sympy.Integer(1), (DiracAtom(node.kind, node.indices, node.span),))]
         if isinstance(node, m.LTensor):

@@ -33,10 +33,19 @@ class Parameter:
     value: complex | None
     description: str
     span: Span = dataclasses.field(compare=False)
+    spaces: tuple[str, ...] = ()  # index spaces of a vector or matrix parameter
+    entries: tuple[sympy.Expr, ...] | None = None  # its values (numbers or formulas), row-major
+    matrix: str = ""  # "", "hermitian" or "unitary" (declared, verified numerically)
+    shape: tuple[int, ...] = ()  # the sizes of its spaces
 
     @property
     def symbol(self) -> sympy.Symbol:
         return parameter_symbol(self.name, self.is_complex)
+
+    @property
+    def is_array(self) -> bool:
+        """True for a vector or matrix parameter (one that carries indices of index spaces)."""
+        return bool(self.spaces)
 
 
 def parameter_symbol(name: str, is_complex: bool = False) -> sympy.Symbol:
@@ -55,7 +64,8 @@ class Field:
     charges: tuple[tuple[str, Fraction], ...]
     description: str
     span: Span = dataclasses.field(compare=False)
-    representations: tuple[tuple[str, str], ...] = ()  # (group, fundamental|antifundamental|adjoint)
+    # (group, fundamental|antifundamental|adjoint), then (index space, "flavour") for each space it carries
+    representations: tuple[tuple[str, str], ...] = ()
     global_charges: tuple[tuple[str, Fraction], ...] = ()  # (global symmetry, charge; mod N for Z(N))
 
     def representation(self, group: str) -> str | None:
@@ -139,6 +149,19 @@ class GlobalSymmetry:
 
 
 @dataclass(frozen=True)
+class IndexSpace:
+    """A finite index space of the model's own (generations, flavours): no group acts on it."""
+
+    name: str
+    size: int
+    description: str
+    span: Span = dataclasses.field(compare=False)
+
+
+FLAVOUR = "flavour"  # the representation name of an index space in Field.representations
+
+
+@dataclass(frozen=True)
 class Conventions:
     """Model-level sign switches. covariant_sign = +1 means D = d - i g Q A."""
 
@@ -165,6 +188,16 @@ class LField:
     index: str | None
     span: Span = dataclasses.field(compare=False)
     group_indices: tuple[tuple[str, str | None], ...] = ()
+
+
+@dataclass(frozen=True)
+class LParam:
+    """A component of a vector or matrix parameter, Y[i,j]; conjugate for conj(Y[i,j])."""
+
+    name: str
+    indices: tuple[str, ...]
+    conjugate: bool
+    span: Span = dataclasses.field(compare=False)
 
 
 @dataclass(frozen=True)
@@ -249,7 +282,7 @@ class LDagger:
     span: Span = dataclasses.field(compare=False)
 
 
-LNode = Union[LScalar, LField, LGroup, LDirac, LTensor, LDerivative, LStrength, LDefinitionUse, LSum,
+LNode = Union[LScalar, LField, LParam, LGroup, LDirac, LTensor, LDerivative, LStrength, LDefinitionUse, LSum,
               LProduct, LPower, LDagger]
 
 
@@ -287,6 +320,7 @@ class Model:
     conventions: Conventions
     source: Source
     symmetries: dict[str, GlobalSymmetry] = dataclasses.field(default_factory=dict)
+    spaces: dict[str, IndexSpace] = dataclasses.field(default_factory=dict)
 
     def parameter_values(self, overrides: Mapping[str, complex] | None = None) -> dict[sympy.Symbol, complex]:
         """Numeric values of all parameters: the model's own numbers, overridden by the caller's."""
@@ -295,6 +329,14 @@ class Model:
     @property
     def has_non_abelian(self) -> bool:
         return any(not g.abelian for g in self.groups.values())
+
+    def index_dimension(self, name: str, representation: str) -> int:
+        """The length of an index axis: an index space's size, or N, N^2-1 of an SU(N) group."""
+        from .groups import dimension
+
+        if representation == FLAVOUR:
+            return self.spaces[name].size
+        return dimension(self.groups[name].rank, representation)
 
     def boson_group(self, field_name: str) -> GaugeGroup | None:
         return next((g for g in self.groups.values() if g.boson == field_name), None)

@@ -9,13 +9,13 @@ from __future__ import annotations
 
 import itertools
 import string
-from typing import Callable, Sequence
+from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
 from .groups import su_alternating, su_generators, su_structure_constants
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
-                         LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
+                         LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant, Vector)
 
 METRIC = np.diag([1.0, -1.0, -1.0, -1.0]).astype(complex)
 _PAULI = [np.array([[0, 1], [1, 0]], dtype=complex), np.array([[0, -1j], [1j, 0]], dtype=complex),
@@ -86,11 +86,12 @@ def momentum_value(momentum: Momentum, momenta: np.ndarray) -> np.ndarray:
 
 def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta: np.ndarray,
                        eps0123: int, ranks: dict[str, int] | None = None,
-                       leg_dims: dict[tuple[int, str], int] | None = None) -> np.ndarray:
+                       leg_dims: dict[tuple[int, str], int] | None = None,
+                       arrays: Mapping[str, np.ndarray] | None = None) -> np.ndarray:
     """The tensor of one structure with axes in leg order.
 
     leg_axes lists label keys: ("lorentz", leg), ("spinor", leg), ("group", leg, group); ranks gives N of
-    each SU(N) group.
+    each SU(N) group and the size of each index space; arrays the values of vector and matrix parameters.
     """
     ranks = ranks or {}
     leg_dims = leg_dims or {}
@@ -146,6 +147,12 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta:
         return labels.of(("group-dummy", slot.name))
 
     for g in structure.group:
+        if isinstance(g, ParamTensor):
+            if arrays is None or g.group not in arrays:
+                raise KeyError(g.group)
+            operands.append(arrays[g.group].conj() if g.conjugate else arrays[g.group])
+            subscripts.append("".join(group_label(x) for x in g.slots_))
+            continue
         n = ranks[g.group]
         if isinstance(g, StructureConstant):
             operands.append(su_structure_constants(n).astype(complex))

@@ -28,9 +28,10 @@ from .errors import ModelMeaningError, ModelSyntaxError, Source, Span, Vertexsmi
 MAX_MODEL_BYTES = 2_000_000
 MAX_HAND_BYTES = 1_000_000
 
-_PARAM_WORDS = {"MASS", "COUPLING", "ANGLE", "WIDTH", "PARAMETER", "REAL", "COMPLEX"}
-_OPENERS = {"LPAR", "LSQB"}
-_CLOSERS = {"RPAR", "RSQB"}
+_PARAM_WORDS = {"MASS", "COUPLING", "ANGLE", "WIDTH", "PARAMETER", "REAL", "COMPLEX", "HERMITIAN", "UNITARY"}
+_MATRIX_WORDS = ("hermitian", "unitary")
+_OPENERS = {"LPAR", "LSQB", "LBRACE"}
+_CLOSERS = {"RPAR", "RSQB", "RBRACE"}
 # a line that ends in one of these goes on to the next line; in hand rules also one that ends in
 # the colon between the legs and the factor (no '=' there)
 _CONTINUING = frozenset({"PLUS", "MINUS", "STAR", "SLASH", "CIRCUMFLEX", "COMMA", "EQUAL", "LPAR", "LSQB"})
@@ -208,11 +209,26 @@ class _ToSyntax(_Operators):
         words = [c for c in children if isinstance(c, Token) and c.type in _PARAM_WORDS]
         rest = children[len(words):]
         name = str(rest[0])
+        spaces: tuple[sx.Index, ...] = ()
+        if len(rest) > 1 and isinstance(rest[1], tuple):
+            spaces = rest[1]
+            rest = rest[:1] + rest[2:]
         value = next((c for c in rest[1:] if not isinstance(c, Token)), None)
         description = next((c for c in rest[1:] if isinstance(c, Token) and c.type == "STRING"), None)
-        roles = tuple(str(w) for w in words if w.type not in ("REAL", "COMPLEX"))
+        roles = tuple(str(w) for w in words if w.type not in ("REAL", "COMPLEX", "HERMITIAN", "UNITARY"))
         reality = "complex" if any(str(w) == "complex" for w in words) else "real"
-        return sx.ParamDecl(name, roles, reality, value, _string(description), _span(meta))
+        matrix = next((str(w) for w in words if str(w) in _MATRIX_WORDS), "")
+        return sx.ParamDecl(name, roles, reality, value, _string(description), _span(meta), spaces, matrix)
+
+    def array(self, meta: Any, children: list[Any]) -> sx.Array:
+        return sx.Array(tuple(children), _span(meta))
+
+    def space_decl(self, meta: Any, children: list[Token]) -> sx.SpaceDecl:
+        return sx.SpaceDecl(str(children[0]), _checked(children[1]), _token_span(children[1]),
+                            _string(children[2] if len(children) > 2 else None), _span(meta))
+
+    def over_attr(self, meta: Any, children: list[Token]) -> tuple[str, Any, Span]:
+        return ("over", sx.Index(str(children[0]), _token_span(children[0])), _span(meta))
 
     def reality_attr(self, meta: Any, children: list[Token]) -> tuple[str, Any, Span]:
         return ("reality", str(children[0]), _span(meta))
@@ -245,6 +261,7 @@ class _ToSyntax(_Operators):
         mass_span: Span | None = None
         charges: list[sx.ChargeAttr] = []
         reps: list[sx.RepAttr] = []
+        spaces: list[sx.Index] = []
         description = ""
         for child in children[2:]:
             if isinstance(child, Token):
@@ -257,10 +274,12 @@ class _ToSyntax(_Operators):
                 mass, mass_span = value
             elif key == "charge":
                 charges.append(value)
+            elif key == "over":
+                spaces.append(value)
             else:
                 reps.append(value)
         return sx.FieldDecl(kind, name, reality, mass, tuple(charges), tuple(reps), description,
-                            _span(meta), mass_span)
+                            _span(meta), mass_span, tuple(spaces))
 
     def boson_attr(self, meta: Any, c: list[Token]) -> tuple[str, str, Span]:
         return ("boson", str(c[0]), _token_span(c[0]))
@@ -307,6 +326,9 @@ class _ToSyntax(_Operators):
     def parameters_section(self, meta: Any, children: list[Any]) -> tuple[str, list[Any]]:
         return ("parameters", children)
 
+    def spaces_section(self, meta: Any, children: list[Any]) -> tuple[str, list[Any]]:
+        return ("spaces", children)
+
     def fields_section(self, meta: Any, children: list[Any]) -> tuple[str, list[Any]]:
         return ("fields", children)
 
@@ -328,12 +350,12 @@ class _ToSyntax(_Operators):
     def start(self, meta: Any, children: list[Any]) -> sx.ModelFile:
         parts: dict[str, list[Any]] = {k: [] for k in
                                        ("parameters", "fields", "gauges", "definitions", "terms", "conventions",
-                                        "globals_")}
+                                        "globals_", "spaces")}
         for key, items in children[1:]:
             parts[key].extend(items)
         return sx.ModelFile(children[0], *(tuple(parts[k]) for k in
                                            ("parameters", "fields", "gauges", "definitions", "terms", "conventions",
-                                            "globals_")))
+                                            "globals_", "spaces")))
 
 
 @v_args(meta=True)

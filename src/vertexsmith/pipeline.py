@@ -26,6 +26,7 @@ from .errors import Source, UsageError, VertexsmithError
 from .expand import Monomial, expand_model
 from .parse import parse_text
 from .rules import Rules
+from .unroll import unroll_rules
 
 if TYPE_CHECKING:
     from .check import Diagnostic
@@ -71,11 +72,16 @@ def expand(model: m.Model) -> tuple[Monomial, ...]:
         raise exc.with_source(model.source) from None
 
 
-def derive(model: m.Model, gauge: str = "xi") -> Rules:
-    """Every vertex and propagator of a model; gauge is 'xi', 'feynman' or 'unitary'."""
+def derive(model: m.Model, gauge: str = "xi", unroll: bool = False) -> Rules:
+    """Every vertex and propagator of a model; gauge is 'xi', 'feynman' or 'unitary'.
+
+    Indices of the model's own index spaces stay symbolic (one vertex with Y[i,j] in its factor);
+    unroll=True writes one vertex per component instead, dropping components that vanish.
+    """
     try:
         prepared = prepare_model(model)
-        return derive_rules(prepared, expand_model(prepared), gauge=gauge)
+        rules = derive_rules(prepared, expand_model(prepared), gauge=gauge)
+        return unroll_rules(rules, unroll)
     except UsageError:
         raise
     except VertexsmithError as exc:
@@ -93,9 +99,12 @@ def check(model: m.Model) -> list[Diagnostic]:
 class Model(m.Model):
     """A model as users hold it: the plain record of `model.Model` plus the pipeline's conveniences."""
 
-    def derive(self, gauge: str = "xi") -> Rules:
-        """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'."""
-        return derive(self, gauge)
+    def derive(self, gauge: str = "xi", unroll: bool = False) -> Rules:
+        """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'.
+
+        unroll=True writes indices of the model's index spaces out, one vertex per component.
+        """
+        return derive(self, gauge, unroll)
 
     def check(self) -> list[Diagnostic]:
         """Every diagnostic of the model, ordered by line, column and message."""

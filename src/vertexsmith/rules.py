@@ -69,7 +69,7 @@ class Leg:
             names.append(f"mu{self.position}")
         if self.kind in ("dirac", "majorana"):
             names.append(f"s{self.position}")
-        names.extend(group_index_name(self.position, group, rep, len(self.representations) > 1)
+        names.extend(group_index_name(self.position, group, rep, _qualify(self.representations))
                      for group, rep, _ in self.representations)
         return tuple(names)
 
@@ -102,8 +102,18 @@ class Leg:
         return f"{name} in or out"
 
 
+def _qualify(representations: tuple[tuple[str, str, int], ...]) -> bool:
+    """Group index names carry their group when a leg has indices of several groups (spaces not counted)."""
+    return sum(rep != "flavour" for _, rep, _ in representations) > 1
+
+
 def group_index_name(position: int, group: str, representation: str, qualify: bool) -> str:
-    """a3 for an adjoint index of leg 3, i3 for a fundamental one; with several groups a3_color."""
+    """a3 for an adjoint index of leg 3, i3 for a fundamental one; with several groups a3_color.
+
+    An index of an index space is named after the space: gen3.
+    """
+    if representation == "flavour":
+        return f"{group}{position}"
     letter = "a" if representation == "adjoint" else "i"
     return f"{letter}{position}_{group}" if qualify else f"{letter}{position}"
 
@@ -219,7 +229,7 @@ class Vertex:
         return tuple(out)
 
     def _index_names(self) -> dict[tuple[int, str], str]:
-        qualify = {leg.position: len(leg.representations) > 1 for leg in self.legs}
+        qualify = {leg.position: _qualify(leg.representations) for leg in self.legs}
         return {(leg.position, g): group_index_name(leg.position, g, rep, qualify[leg.position])
                 for leg in self.legs for g, rep, _ in leg.representations}
 
@@ -370,8 +380,11 @@ class Propagator:
     def indices(self) -> tuple[str, ...]:
         names: tuple[str, ...] = {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
         for group, rep, _ in self.representations:
+            if rep == "flavour":
+                names += (f"{group}1", f"{group}2")
+                continue
             letter = "a" if rep == "adjoint" else "i"
-            suffix = f"_{group}" if len(self.representations) > 1 else ""
+            suffix = f"_{group}" if _qualify(self.representations) else ""
             names += (f"{letter}1{suffix}", f"{letter}2{suffix}")
         return names
 

@@ -177,7 +177,19 @@ class GroupAlternating:
         return self.slots_
 
 
-GroupTensor = Union[StructureConstant, Generator, GroupDelta, GroupAlternating]
+@dataclass(frozen=True)
+class ParamTensor:
+    """A vector or matrix parameter over index spaces, Y_{ij} (or its complex conjugate)."""
+
+    group: str  # the parameter's name: it sorts among the group tensors
+    conjugate: bool
+    slots_: tuple[Slot, ...]
+
+    def slots(self) -> tuple[Slot, ...]:
+        return self.slots_
+
+
+GroupTensor = Union[StructureConstant, Generator, GroupDelta, GroupAlternating, ParamTensor]
 
 
 # ------------------------------------------------------------------ Dirac matrices and chains
@@ -269,6 +281,8 @@ def _map_group_tensor(g: GroupTensor, f: Callable[[Slot], Slot]) -> GroupTensor:
         return GroupDelta(g.group, (f(a), f(b)))
     if isinstance(g, GroupAlternating):
         return GroupAlternating(g.group, tuple(f(x) for x in g.slots_))
+    if isinstance(g, ParamTensor):
+        return ParamTensor(g.group, g.conjugate, tuple(f(x) for x in g.slots_))
     a, b, c = g.slots_
     return type(g)(g.group, (f(a), f(b), f(c)))
 
@@ -404,7 +418,9 @@ def _canonical_group_tensor(t: GroupTensor) -> tuple[int, GroupTensor | None]:
 
 
 def _group_key(t: GroupTensor) -> tuple:
-    kind = {StructureConstant: 0, Generator: 1, GroupDelta: 2, GroupAlternating: 3}[type(t)]
+    kind = {StructureConstant: 0, Generator: 1, GroupDelta: 2, GroupAlternating: 3, ParamTensor: 5}[type(t)]
+    if isinstance(t, ParamTensor) and t.conjugate:
+        kind = 6
     return (t.group, kind, tuple(slot_key(s) for s in t.slots_))
 
 
@@ -525,6 +541,6 @@ def legs_in(slots: Iterable[Slot]) -> set[int]:
 
 
 __all__ = ["permutation_sign", "LegIndex", "Momentum", "Dummy", "LegGroupIndex", "GroupDummy", "StructureConstant", "Generator",
-           "GroupDelta", "GroupAlternating", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
+           "GroupDelta", "GroupAlternating", "ParamTensor", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
            "Sigma", "Chiral", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
            "momentum_slots", "replace_slot", "relabel_legs", "replace"]

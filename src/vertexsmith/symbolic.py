@@ -8,6 +8,7 @@ schema), so that a factor can be pasted back into a model or a hand-rules file:
     g[mu1,mu2]  p1[mu3]  (p1 - p2)[mu3]  dot(p1, p2)  eps[mu1,mu2,p1,p2]
     gamma[mu3]  slash(p1)  sigma[mu1,mu2]  gamma5  PL  PR  chain(1, 2, M)
     f_color[a1,a2,a3]  T_color[a3,i1,i2]  delta_color[i1,i2]  alt_weak[i1,i2]
+    Ye[gen1,gen2]  (an entry of a vector or matrix parameter; Ye[1,2] in unrolled rules)
 
 `str()` of a factor uses these names with sympy's `**` and `conjugate`; `factor_text()` gives
 the model language exactly (`^`, `conj`). `parse_factor(text)` reads either form back.
@@ -24,7 +25,7 @@ from sympy.printing.str import StrPrinter
 from .structures import (Chain as ChainStruct, Chiral, Dot as DotStruct, Dummy, Epsilon, Gamma as GammaStruct,
                          Generator as GeneratorStruct, GroupAlternating as GroupAlternatingStruct,
                          GroupDelta as GroupDeltaStruct, GroupDummy, LegGroupIndex,
-                         LegIndex, Metric as MetricStruct, Momentum, Sigma as SigmaStruct, Slot, Structure,
+                         LegIndex, Metric as MetricStruct, Momentum, ParamTensor, Sigma as SigmaStruct, Slot, Structure,
                          StructureConstant as StructureConstantStruct, Vector)
 
 
@@ -232,6 +233,17 @@ class GroupAlternating(sympy.Function):
         return "\\varepsilon_{" + " ".join(_latex_group_index(x, printer) for x in self.args[1:]) + "}"
 
 
+class Component(sympy.Function):
+    """The entry Y_ij of a vector or matrix parameter (indices are names or 1-based numbers); text Y[i,j]."""
+
+    def _sympystr(self, printer: Any) -> str:
+        return _own_text(self, printer, lambda: _bracketed(str(self.args[0]), self.args[1:], printer))
+
+    def _latex(self, printer: LatexPrinter) -> str:
+        name, *indices = self.args
+        return f"{printer._print(name)}_{{{' '.join(_latex_group_index(x, printer) for x in indices)}}}"
+
+
 Gamma5 = sympy.Symbol("gamma5", commutative=False)
 ProjL = sympy.Symbol("PL", commutative=False)
 ProjR = sympy.Symbol("PR", commutative=False)
@@ -308,6 +320,10 @@ def group_to_sympy(tensors: tuple, names: dict[tuple[int, str], str]) -> sympy.E
 
     factors: list[sympy.Expr] = []
     for t in tensors:
+        if isinstance(t, ParamTensor):
+            entry = Component(sympy.Symbol(t.group), *[slot(x) for x in t.slots_])
+            factors.append(sympy.conjugate(entry) if t.conjugate else entry)
+            continue
         group = sympy.Symbol(t.group)
         cls = {StructureConstantStruct: StructureConstant, GeneratorStruct: Generator,
                GroupDeltaStruct: GroupDelta, GroupAlternatingStruct: GroupAlternating}[type(t)]
@@ -329,7 +345,8 @@ def parse_factor(text: str, symbols: "dict[str, sympy.Symbol] | None" = None) ->
     local.update({name: cls for name, cls in (("_vs_metric", Metric), ("_vs_gamma", Gamma), ("_vs_sigma", Sigma),
                                                ("_vs_eps", LeviCivita), ("_vs_vector", FourVector),
                                                ("_vs_f", StructureConstant), ("_vs_T", Generator),
-                                               ("_vs_delta", GroupDelta), ("_vs_alt", GroupAlternating))})
+                                               ("_vs_delta", GroupDelta), ("_vs_alt", GroupAlternating),
+                                               ("_vs_component", Component))})
     return parse_expr(text, local_dict=local, transformations=transformations, evaluate=True)
 
 
@@ -337,7 +354,8 @@ def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:
     """Token pass: NAME[...] and (...)[...] of the output vocabulary become function calls.
 
     g[a,b] -> metric, gamma/sigma/eps[...], f_G/T_G/delta_G[...] -> group tensor of G with G as
-    the first argument, any other NAME[i] or (expr)[i] -> the four-vector of that momentum.
+    the first argument, p[i], pk[i] or (expr)[i] -> the four-vector of that momentum, any other
+    NAME[...] -> the entry of a vector or matrix parameter.
     """
     # self-contained (the exported Python module carries a copy of its source for its symbolic())
     from tokenize import NAME, OP, STRING
@@ -356,8 +374,11 @@ def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:
                 elif group and base in group_calls:
                     head = [(NAME, group_calls[base]), (OP, "("), (NAME, "Symbol"), (OP, "("),
                             (STRING, repr(group)), (OP, ")"), (OP, ",")]
-                else:
+                elif name == "p" or (name[:1] == "p" and name[1:].isdigit()):
                     head = [(NAME, "_vs_vector"), (OP, "("), (NAME, name), (OP, ",")]
+                else:  # any other name with indices is an entry of a vector or matrix parameter
+                    head = [(NAME, "_vs_component"), (OP, "("), (NAME, "Symbol"), (OP, "("),
+                            (STRING, repr(name)), (OP, ")"), (OP, ",")]
             elif out[-1][0] == OP and out[-1][1] == ")":
                 depth, k = 0, len(out) - 1
                 while k >= 0:

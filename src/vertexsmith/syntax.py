@@ -107,11 +107,32 @@ class TheoryDecl:
 
 
 @dataclass(frozen=True)
+class Array:
+    """A braced list of values or of braced lists: a vector or matrix parameter's value."""
+
+    items: tuple["Expr | Array", ...]
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
 class ParamDecl:
     name: str
     roles: tuple[str, ...]
     reality: str  # "real" or "complex"
-    value: Expr | None
+    value: "Expr | Array | None"
+    description: str
+    span: Span = field(compare=False)
+    spaces: tuple[Index, ...] = ()  # index spaces of a vector or matrix parameter, as written
+    matrix: str = ""  # "", "hermitian" or "unitary"
+
+
+@dataclass(frozen=True)
+class SpaceDecl:
+    """An index space of the model's own (generations, flavours): a name and a size."""
+
+    name: str
+    size: str
+    size_span: Span = field(compare=False)
     description: str
     span: Span = field(compare=False)
 
@@ -141,6 +162,7 @@ class FieldDecl:
     description: str
     span: Span = field(compare=False)
     mass_span: Span | None = field(default=None, compare=False)
+    spaces: tuple[Index, ...] = ()  # the index spaces the field carries ("over gen")
 
 
 @dataclass(frozen=True)
@@ -202,6 +224,7 @@ class ModelFile:
     terms: tuple[LagrangianTerm, ...]
     conventions: tuple[Convention, ...]
     globals_: tuple[GlobalDecl, ...] = ()
+    spaces: tuple[SpaceDecl, ...] = ()
 
 
 # ------------------------------------------------------------------ hand-derived rules

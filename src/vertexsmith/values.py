@@ -9,6 +9,7 @@ from __future__ import annotations
 import cmath
 from typing import TYPE_CHECKING, Any, Mapping
 
+import numpy as np
 import sympy
 
 from .errors import ModelMeaningError, UsageError, did_you_mean
@@ -20,16 +21,24 @@ if TYPE_CHECKING:
 def resolve_values_from(parameters: Mapping[str, "Parameter"],
                         overrides: Mapping[str, complex]) -> dict[sympy.Symbol, complex]:
     """Numeric values for every parameter that has one, definitions evaluated in order."""
-    values: dict[sympy.Symbol, complex] = {}
+    values: dict[sympy.Symbol, Any] = {}
     for name, value in overrides.items():
         if name not in parameters:
             raise UsageError(f"unknown parameter '{name}' in values",
                              hint=did_you_mean(name, parameters, "use the model's parameter names"))
-        values[parameters[name].symbol] = _number_value(name, value)
+        p = parameters[name]
+        values[p.symbol] = _array_override(p, value) if p.is_array else _number_value(name, value)
     changed = True
     while changed:
         changed = False
         for p in parameters.values():
+            if p.is_array and p.symbol not in values:
+                # a vector or matrix parameter: one array, from its entries once they all have numbers
+                array = _array_value(p, values)
+                if array is not None:
+                    values[p.symbol] = array
+                    changed = True
+                continue
             if p.symbol in values or p.definition is None:
                 continue
             symbols = p.definition.free_symbols
@@ -47,6 +56,42 @@ def resolve_values_from(parameters: Mapping[str, "Parameter"],
                 values[p.symbol] = number
                 changed = True
     return values
+
+
+def _array_value(p: "Parameter", values: Mapping[sympy.Symbol, Any]) -> np.ndarray | None:
+    """The numeric array of a vector or matrix parameter from its entries; None when one has no number."""
+    if p.entries is None:
+        return None
+    numbers: list[complex] = []
+    for entry in p.entries:
+        free = entry.free_symbols
+        if not free <= set(values):
+            return None
+        result = (entry.subs({s: values[s] for s in free}) if free else entry).evalf()
+        try:
+            number = complex(result)
+        except (TypeError, OverflowError):
+            number = complex("nan")
+        if not cmath.isfinite(number):
+            raise ModelMeaningError(f"an entry of '{p.name}' is not a finite number ({result})", p.span,
+                                    "check the entry and the parameters it is defined from")
+        numbers.append(number)
+    return np.array(numbers, dtype=complex).reshape(p.shape)
+
+
+def _array_override(p: "Parameter", value: Any) -> np.ndarray:
+    """A caller's value for a vector or matrix parameter: an array of the declared shape, finite."""
+    try:
+        array = np.asarray(value, dtype=complex)
+    except (TypeError, ValueError):
+        raise UsageError(f"the value given for '{p.name}' is not an array of numbers",
+                         hint=f"pass values={{'{p.name}': numpy array of shape {p.shape}}}") from None
+    if array.shape != p.shape:
+        raise UsageError(f"the value given for '{p.name}' has shape {array.shape}, not {p.shape}",
+                         hint=f"'{p.name}' lives on {', '.join(p.spaces)}")
+    if not np.all(np.isfinite(array)):
+        raise UsageError(f"the value given for '{p.name}' has entries that are not finite numbers")
+    return array
 
 
 def _number_value(name: str, value: Any) -> complex:

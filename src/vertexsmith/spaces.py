@@ -1,0 +1,189 @@
+"""Index spaces of the model's own (generations, flavours) and the parameters that live on them.
+
+A model declares finite index spaces (`spaces` section); fields carry them (`over gen`) and
+vector or matrix parameters are declared over them (`Y[gen,gen] = {{...}, ...}`). This module
+holds what `build` needs beyond names: the size of a space, the entries of a braced value, the
+numeric check of a matrix declared hermitian or unitary, and the check that every index is used
+in one space only. All errors are positioned at the text that is wrong.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+import sympy
+
+from . import model as m
+from . import syntax as sx
+from .errors import ModelMeaningError, Span
+
+MAX_SPACE_SIZE = 24  # generations and flavours are few; unrolled vertices grow as a power of this
+_TOLERANCE = 1e-9  # relative; declared values are written with a few digits, round-off is far below
+
+
+def space_size(decl: sx.SpaceDecl) -> int:
+    """The size of a declared index space: a whole number from 1 to MAX_SPACE_SIZE."""
+    if not decl.size.isdigit() or not 1 <= int(decl.size) <= MAX_SPACE_SIZE:
+        raise ModelMeaningError(f"the size of index space '{decl.name}' must be a whole number from 1 to "
+                                f"{MAX_SPACE_SIZE}", decl.size_span, f"write e.g. {decl.name} 3")
+    return int(decl.size)
+
+
+def field_index_counts(lorentz: int, groups: int, spaces: int) -> tuple[int, ...]:
+    """How many indices a field over index spaces may take: group indices all or none, space indices always."""
+    return (lorentz + spaces, lorentz + groups + spaces) if groups else (lorentz + spaces,)
+
+
+def array_entries(name: str, value: sx.Expr | sx.Array, shape: tuple[int, ...]) -> list[sx.Expr]:
+    """The entries of a braced value in row-major order, after checking its shape against the spaces."""
+    if len(shape) == 0:  # pragma: no cover - only called for parameters with spaces
+        return [value]  # type: ignore[list-item]
+    if not isinstance(value, sx.Array):
+        raise ModelMeaningError(f"'{name}' has {len(shape)} index space{'s' if len(shape) > 1 else ''}, so its "
+                                "value is a braced list", _span(value),
+                                f"write {name}[...] = " + _example(shape))
+    if len(value.items) != shape[0]:
+        raise ModelMeaningError(f"'{name}' needs {shape[0]} entries here, not {len(value.items)}", value.span,
+                                "one entry per component of the index space, e.g. " + _example(shape))
+    out: list[sx.Expr] = []
+    for item in value.items:
+        if len(shape) > 1:
+            out.extend(array_entries(name, item, shape[1:]))
+        elif isinstance(item, sx.Array):
+            raise ModelMeaningError(f"'{name}' has one index too few for a nested list here", item.span,
+                                    "write a number or a formula of parameters")
+        else:
+            out.append(item)
+    return out
+
+
+def _example(shape: tuple[int, ...]) -> str:
+    if len(shape) == 1:
+        return "{" + ", ".join(["0.1"] * min(shape[0], 3)) + (", ..." if shape[0] > 3 else "") + "}"
+    return "{" + ", ".join([_example(shape[1:])] * min(shape[0], 2)) + (", ..." if shape[0] > 2 else "") + "}"
+
+
+def _span(node: Any) -> Span:
+    return getattr(node, "span", Span(0, 0, 0, 0))
+
+
+# ------------------------------------------------------------------ numbers
+
+def random_array(rng: np.random.Generator, p: m.Parameter) -> np.ndarray:
+    """Generic numbers for a vector or matrix parameter that respect what it is declared to be."""
+    real = rng.uniform(0.5, 1.5, size=p.shape)
+    array = real + 1j * rng.uniform(0.5, 1.5, size=p.shape) if p.is_complex else real.astype(complex)
+    if p.matrix == "hermitian":
+        array = (array + array.conj().T) / 2
+    elif p.matrix == "unitary":
+        q, r = np.linalg.qr(array)
+        array = q * (np.diag(r) / np.abs(np.diag(r)))
+    return array
+
+
+def check_matrix_property(p: m.Parameter, values: Mapping[sympy.Symbol, Any], spans: tuple[Span, ...]) -> None:
+    """A matrix declared hermitian or unitary must be so numerically; the error points at the worst entry."""
+    if not p.matrix:
+        return
+    array = values.get(p.symbol)
+    if not isinstance(array, np.ndarray):
+        return  # no numbers (yet): nothing to verify
+    n = array.shape[0]
+    scale = max(1.0, float(np.abs(array).max()))
+    if p.matrix == "hermitian":
+        defect = np.abs(array - array.conj().T)
+        what = f"is not hermitian: entry [{{i}},{{j}}] is not the complex conjugate of entry [{{j}},{{i}}]"
+        hint = "make the entry the conjugate of its mirror entry, or drop 'hermitian'"
+    else:
+        defect = np.abs(array @ array.conj().T - np.eye(n))
+        what = "is not unitary: row {i} times the conjugate of row {j} is not " + "{delta}"
+        hint = "give the matrix orthonormal rows (to about 9 digits), or drop 'unitary'"
+    worst = np.unravel_index(int(np.argmax(defect)), defect.shape)
+    if defect[worst] <= _TOLERANCE * scale:
+        return
+    i, j = int(worst[0]), int(worst[1])
+    message = f"'{p.name}' declared {p.matrix} " + what.format(i=i + 1, j=j + 1, delta=int(i == j))
+    message += f" (off by {float(defect[worst]):.3g})"
+    span = spans[i * n + j] if spans else p.span
+    raise ModelMeaningError(message, span, hint)
+
+
+# ------------------------------------------------------------------ index spaces of a term
+
+def _slot_kinds(node: sx.Symbol, fields: Mapping[str, m.Field], parameters: Mapping[str, m.Parameter],
+                strengths: Mapping[str, str]) -> list[str | None]:
+    """What each written index of a symbol is: 'Lorentz', 'group:<g>', '<space>'; None when unknown."""
+    n = len(node.indices)
+    if node.name in fields:
+        f = fields[node.name]
+        lorentz = ["Lorentz"] if f.is_vector else []
+        groups = [f"group:{g}" for g, r in f.representations if r != m.FLAVOUR]
+        flavours = [g for g, r in f.representations if r == m.FLAVOUR]
+        if n == len(lorentz) + len(groups) + len(flavours):
+            return [*lorentz, *groups, *flavours]
+        if n == len(lorentz) + len(flavours):
+            return [*lorentz, *flavours]
+        return [None] * n
+    if node.name in parameters:
+        p = parameters[node.name]
+        return list(p.spaces) if len(p.spaces) == n else [None] * n
+    if node.name in strengths:
+        return ["Lorentz", "Lorentz", f"group:{strengths[node.name]}"][:n]
+    if node.name in ("gamma", "sigma", "g", "eps", "d", "D", "γ", "σ", "ε", "η", "∂"):
+        return ["Lorentz"] * n
+    return [None] * n
+
+
+def _describe(kind: str) -> str:
+    if kind == "Lorentz":
+        return "a Lorentz index"
+    if kind.startswith("group:"):
+        return f"an index of the group {kind[6:]}"
+    return f"an index of the space {kind}"
+
+
+def check_index_spaces(expr: sx.Expr, fields: Mapping[str, m.Field], parameters: Mapping[str, m.Parameter],
+                       strengths: Mapping[str, str]) -> None:
+    """Every index that touches an index space is used in that one space only, summand by summand."""
+    summands = [t for _, t in expr.terms] if isinstance(expr, sx.Sum) else [expr]
+    for summand in summands:
+        seen: dict[str, tuple[str, Span]] = {}
+        for node in _symbols(summand):
+            for index, kind in zip(node.indices, _slot_kinds(node, fields, parameters, strengths)):
+                if kind is None:
+                    continue
+                if index.name not in seen:
+                    seen[index.name] = (kind, index.span)
+                    continue
+                first, where = seen[index.name]
+                if first != kind and not (first.startswith(("Lorentz", "group:"))
+                                          and kind.startswith(("Lorentz", "group:"))):
+                    raise ModelMeaningError(f"index '{index.name}' is {_describe(kind)} here but "
+                                            f"{_describe(first)} at line {where.line}, column {where.column}",
+                                            index.span, "use one index name per index space, e.g. i, j for "
+                                            "generations and mu, nu for Lorentz indices")
+
+
+def _symbols(node: Any) -> list[sx.Symbol]:
+    out: list[sx.Symbol] = []
+    stack = [node]
+    while stack:
+        item = stack.pop()
+        if isinstance(item, sx.Symbol):
+            out.append(item)
+        elif isinstance(item, sx.Call):
+            stack.append(item.argument)
+        elif isinstance(item, sx.Group):
+            stack.append(item.inner)
+        elif isinstance(item, sx.Sum):
+            stack.extend(t for _, t in item.terms)
+        elif isinstance(item, sx.Product):
+            stack.extend(item.factors)
+        elif isinstance(item, (sx.Quotient,)):
+            stack.extend((item.numerator, item.denominator))
+        elif isinstance(item, sx.Power):
+            stack.extend((item.base, item.exponent))
+    out.sort(key=lambda s: (s.span.line, s.span.column))  # first use in reading order
+    return out
