@@ -1,6 +1,7 @@
 """The `vertexsmith` command: derive, check and list models from a shell.
 
-    vertexsmith rules MODEL [--format text|latex|json] [--snippet] [--gauge xi|feynman|unitary] [-o FILE]
+    vertexsmith rules MODEL [--format text|latex|json] [--snippet] [--gauge xi|feynman|unitary] [--unroll]
+                      [-o FILE]
     vertexsmith check MODEL
     vertexsmith models
 
@@ -148,7 +149,7 @@ def command_rules(args: argparse.Namespace) -> int:
     from .selection import load_with_values, select_from_arguments
 
     model = load_with_values(args)
-    rules = model.derive(gauge=args.gauge)  # derive() attaches the model's source to its errors
+    rules = model.derive(gauge=args.gauge, unroll=args.unroll)  # derive() attaches the model's source to its errors
     rules = select_from_arguments(rules, args)
     options: dict[str, object] = {}
     if args.format == "latex":
@@ -255,6 +256,8 @@ def _build_parser() -> argparse.ArgumentParser:
                        help="with --format latex: only the rules, for pasting into a document")
     rules.add_argument("--gauge", choices=("xi", "feynman", "unitary"), default="xi",
                        help="gauge for the vector propagators (default: xi, symbolic R_xi)")
+    rules.add_argument("--unroll", action="store_true",
+                       help="write indices of the model's index spaces out: one vertex per component")
     rules.add_argument("-o", "--output", metavar="FILE",
                        help="write to FILE (atomically; nothing is written if derivation fails)")
     _add_shared_arguments(rules, select=True)

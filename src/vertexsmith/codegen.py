@@ -23,7 +23,8 @@ import sympy
 from sympy.printing.numpy import NumPyPrinter
 
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
-                         LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
+                         LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure,
+                         StructureConstant, Vector)
 from .symbolic import factor_text, group_to_sympy, lorentz_to_sympy
 
 if TYPE_CHECKING:
@@ -49,6 +50,11 @@ class _CoefficientPrinter(NumPyPrinter):
         if expr == P2:
             return "pp"
         return f"P[{expr.name!r}]"
+
+    def _print_Component(self, expr: sympy.Expr) -> str:
+        # an entry of a vector or matrix parameter (unrolled rules): 1-based in the rules, 0-based here
+        name, *indices = expr.args
+        return f"P[{str(name)!r}][{', '.join(str(int(i) - 1) for i in indices)}]"
 
     def _print_conjugate(self, expr: sympy.Expr) -> str:
         return f"np.conj({self._print(expr.args[0])})"
@@ -163,6 +169,8 @@ def _einsum_call(structure: Structure, leg_axes: Sequence[tuple], ranks: dict[st
             e.add(f"_T[{g.group!r}]", labels, False)
         elif isinstance(g, GroupAlternating):
             e.add(f"_ALT[{g.group!r}]", labels, False)
+        elif isinstance(g, ParamTensor):  # a vector or matrix parameter: one array from params
+            e.add(f"np.conj(P[{g.group!r}])" if g.conjugate else f"P[{g.group!r}]", labels, False)
         else:
             first = g.slots_[0]
             n = ranks[g.group]
@@ -253,7 +261,8 @@ def vertex_function_source(vertex: "Vertex", name: str, ranks: dict[str, int], d
     calls = [_einsum_call(term.structure, axes, ranks, dims) for term in vertex.terms]
     unpack = momenta + ("," if len(legs) == 1 else "")  # a one-leg (tadpole) vertex unpacks one array
     body += ["    P = _parameters(params)", f"    {unpack} = _momenta({momenta})"]
-    if not any(batched for _, batched in calls):
+    # a tensor with a matrix parameter in it depends on params: never kept as a constant
+    if not any(batched or "P[" in (call or "") for call, batched in calls):
         body += _constant_vertex_body(vertex, name, calls, shape)
         return "\n".join(body)
     body.append(f"    out = np.zeros(p1.shape[:-1] + {shape}, dtype=complex)")
@@ -428,12 +437,17 @@ def _parameters(params):
     unknown = sorted(set(given) - set(PARAMETER_NAMES))
     if unknown:
         raise KeyError(f"unknown parameter(s) {', '.join(unknown)}; the parameters are {', '.join(PARAMETER_NAMES)}")
-    P = _Parameters({name: complex(value) for name, value in PARAMETERS.items()})
-    P.update({name: complex(value) for name, value in given.items()})
+    P = _Parameters({name: _number(value) for name, value in PARAMETERS.items()})
+    P.update({name: _number(value) for name, value in given.items()})
     for name, definition in _DEFINITIONS:
         if name not in given:
-            P[name] = complex(definition(P))
+            P[name] = _number(definition(P))
     return P
+
+
+def _number(value):
+    """A complex number, or a complex array for a vector or matrix parameter."""
+    return np.asarray(value, dtype=complex) if np.ndim(value) else complex(value)
 
 
 def _momenta(*momenta):

@@ -55,17 +55,18 @@ def load_model_argument(name: str | Path) -> "Model":
 
 
 def export_model(model: "str | Path | Model", to: str = "python", output: str | Path | None = None,
-                 gauge: str = "xi") -> str:
+                 gauge: str = "xi", unroll: bool = False) -> str:
     """Derive a model's rules and export them; write the text to `output` when given, and return it.
 
     `model` is a Model, a model file path or a shipped model name. This is what the command
-    line runs; scripts use it to regenerate an exported module (see examples/).
+    line runs; scripts use it to regenerate an exported module (see examples/). `unroll=True`
+    writes the indices of the model's index spaces out, one vertex per component.
     """
     from .model import Model
     from .pipeline import derive
 
     loaded = model if isinstance(model, Model) else load_model_argument(model)
-    rules = derive(loaded, gauge=gauge)  # derive() attaches the model's source to its errors
+    rules = derive(loaded, gauge=gauge, unroll=unroll)  # derive() attaches the model's source to its errors
     text = export_rules(rules, to)
     if output is not None:
         _write(text, str(output))
@@ -98,6 +99,8 @@ def add_command(subparsers: "argparse._SubParsersAction[argparse.ArgumentParser]
     add_selection_arguments(parser)
     add_value_arguments(parser)
     add_quiet_argument(parser)
+    parser.add_argument("--unroll", action="store_true",
+                        help="write indices of the model's index spaces out: one vertex per component")
     parser.set_defaults(func=run)
 
 
@@ -107,7 +110,7 @@ def run(args: argparse.Namespace) -> int:
 
     from .selection import load_with_values, select_from_arguments
 
-    rules = select_from_arguments(load_with_values(args).derive(gauge=args.gauge), args)
+    rules = select_from_arguments(load_with_values(args).derive(gauge=args.gauge, unroll=args.unroll), args)
     text = export_rules(rules, args.to)
     if args.output in (None, "-"):
         emit(text, sys.stdout)

@@ -49,13 +49,17 @@ class Leg:
     grassmann: bool
     representations: tuple[tuple[str, str, int], ...] = ()  # (group, representation, dimension)
     is_complex: bool = False
+    components: tuple[tuple[str, int], ...] = ()  # unrolled rules: (index space, 1-based component)
 
     @property
     def label(self) -> str:
-        """The leg as written in the model language: bar(chi), dag(s), X."""
+        """The leg as written in the model language: bar(chi), dag(s), X; unrolled: bar(e[2])."""
+        name = self.field
+        if self.components:
+            name += "[" + ",".join(str(c) for _, c in self.components) + "]"
         if not self.conjugate:
-            return self.field
-        return f"bar({self.field})" if self.kind in ("dirac", "majorana", "ghost") else f"dag({self.field})"
+            return name
+        return f"bar({name})" if self.kind in ("dirac", "majorana", "ghost") else f"dag({name})"
 
     @property
     def momentum(self) -> str:
@@ -271,7 +275,8 @@ class Vertex:
     def _compiled(self) -> Callable[..., np.ndarray]:
         """The vertex as a numpy function, compiled once (the exported module's code, see codegen.py)."""
         ranks = {name: g.rank for name, g in self.model.groups.items()}
-        source = vertex_function_source(self, "vertex", ranks, documented=False)
+        sizes = {**ranks, **{name: sp.size for name, sp in self.model.spaces.items()}}  # deltas of index spaces too
+        source = vertex_function_source(self, "vertex", sizes, documented=False)
         return compile_function(source, "vertex", self.model.conventions.eps0123, ranks)
 
     def evaluate(self, momenta: Sequence[Sequence[float]] | np.ndarray,
@@ -579,6 +584,8 @@ class Rules:
         for prefix in ("bar(", "dag("):
             if label.startswith(prefix) and label.endswith(")"):
                 name = label[len(prefix):-1]
+        if name.endswith("]") and "[" in name and name.split("[")[0] in self.model.fields:
+            name = name.split("[")[0]  # a component of a field over index spaces: the same propagator
         for p in self.propagators:
             if p.field == name:
                 field = self.model.fields[name]

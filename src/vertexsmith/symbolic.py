@@ -181,6 +181,9 @@ def _latex_group_index(s: Any, printer: LatexPrinter) -> str:
     letter, digits = base[:1], base[1:]
     if digits.isdigit():
         return f"{letter}_{{{digits}}}"
+    stem = base.rstrip("0123456789")
+    if not group and stem.isalpha() and stem != base:  # an index-space index, gen2: \mathrm{gen}_{2}
+        return f"\\mathrm{{{stem}}}_{{{base[len(stem):]}}}"
     return printer._print(s)
 
 

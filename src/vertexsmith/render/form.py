@@ -28,7 +28,7 @@ from __future__ import annotations
 import re
 import textwrap
 from fractions import Fraction
-from typing import Iterable, Iterator
+from typing import TYPE_CHECKING, Iterable, Iterator
 
 import sympy
 
@@ -36,14 +36,17 @@ from . import top_level_cuts
 from ..rules import P2, Propagator, Rules, Vertex
 from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                           GroupDummy,
-                          LegGroupIndex, LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant,
+                          LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant,
                           Vector)
+
+if TYPE_CHECKING:
+    from ..model import Model
 
 __all__ = ["render_form", "render"]
 
 # our own FORM names and the customary kinematic symbols a user's program declares (Mandelstam s, t,
 # u; momenta p, q, k, l with or without a number); model names that clash with them are renamed
-_RESERVED = ({"vtx", "prop", "bar", "dag", "den", "conj", "sqrt", "sin", "cos", "tan", "exp", "log", "re", "im",
+_RESERVED = ({"vtx", "prop", "bar", "dag", "comp", "den", "conj", "sqrt", "sin", "cos", "tan", "exp", "log", "re", "im",
               "mu", "nu", "j", "s", "t", "u", "p", "q", "k", "l", "vsrules", "vsvertices", "vspropagators"}
              | {f"{letter}{k}" for letter in ("p", "q", "k", "l", "mu", "nu", "j", "a", "i", "r", "e")
                 for k in range(1, 10)})
@@ -142,6 +145,10 @@ class _Printer:
             if exponent.is_Integer:
                 return f"{self._atom(base)}^{int(exponent)}"
             return f"{self._atom(base)}^({self._print(exponent)})"
+        if type(expr).__name__ == "Component":  # an entry of a matrix parameter: the function Y(1,2)
+            name = self.names.of(str(expr.args[0]))
+            self.functions.add(name)
+            return f"{name}({','.join(self._print(a) for a in expr.args[1:])})"
         if isinstance(expr, sympy.Function):
             name = {"conjugate": "conj", "re": "re", "im": "im"}.get(type(expr).__name__, type(expr).__name__)
             self.functions.add(name)
@@ -193,10 +200,11 @@ class _Structure:
     """One structure as a FORM product; group tensors and spin lines named per vertex."""
 
     def __init__(self, group_names: dict[tuple[int, str], str], lines: dict[tuple[int, int], str],
-                 group_functions: dict[str, str]) -> None:
+                 group_functions: dict[str, str], model: "Model | None" = None) -> None:
         self.group_names = group_names
         self.lines = lines
         self.group_functions = group_functions
+        self.model = model  # for the index spaces of matrix parameters
 
     def slot(self, slot: Slot, group: str = "") -> str:
         if isinstance(slot, LegIndex):
@@ -231,7 +239,14 @@ class _Structure:
         for chain in structure.chains:
             factors.append(self.chain(chain))
         for g in structure.group:
-            kind = {StructureConstant: "f", Generator: "T", GroupDelta: "d", GroupAlternating: "alt"}[type(g)]
+            kind = {StructureConstant: "f", Generator: "T", GroupDelta: "d", GroupAlternating: "alt",
+                    ParamTensor: "Y"}[type(g)]
+            if isinstance(g, ParamTensor):  # Y(i,j): its dummies are named by the index space of each slot
+                spaces = self.model.parameters[g.group].spaces if self.model is not None else ("",) * len(g.slots_)
+                entry = f"{self.group_functions['Y:' + g.group]}(" + ",".join(
+                    self.slot(s, _form_index(space)) for s, space in zip(g.slots_, spaces)) + ")"
+                factors.append(f"conj({entry})" if g.conjugate else entry)
+                continue
             # a delta is FORM's d_: its indices carry their dimension, so it contracts to N or N^2 - 1
             name = "d_" if kind == "d" else self.group_functions[f"{kind}:{g.group}"]
             factors.append(f"{name}(" + ",".join(self.slot(s, _form_index(g.group)) for s in g.slots_) + ")")
@@ -259,7 +274,10 @@ class _Structure:
 def _leg_label(label: str, names: _Names) -> str:
     for prefix in ("bar(", "dag("):
         if label.startswith(prefix) and label.endswith(")"):
-            return f"{prefix}{names.of(label[4:-1])})"
+            return f"{prefix}{_leg_label(label[4:-1], names)})"
+    if label.endswith("]") and "[" in label:  # a leg of unrolled rules, e[2]: comp(e,2)
+        name, _, components = label[:-1].partition("[")
+        return f"comp({names.of(name)},{components})"
     return names.of(label)
 
 
@@ -273,9 +291,14 @@ def _group_index(letter_and_leg: str, group: str) -> str:
 
 
 def _dummy_dimensions(structure: Structure, ranks: dict[str, int], leg_dims: dict[tuple[int, str], int],
-                      dims: dict[str, int]) -> None:
+                      dims: dict[str, int], model: "Model | None" = None) -> None:
     """The dimension of every contracted group index, read from the tensors it sits in."""
     for g in structure.group:
+        if isinstance(g, ParamTensor) and model is not None:  # each slot lives on its index space
+            for slot, space in zip(g.slots_, model.parameters[g.group].spaces):
+                if isinstance(slot, GroupDummy):
+                    dims[f"{slot.name}{_form_index(space)}"] = model.spaces[space].size
+            continue
         n = ranks.get(g.group, 1)
         if isinstance(g, StructureConstant):
             kinds = [n * n - 1] * 3
@@ -311,10 +334,10 @@ def _vertex_statement(vertex: Vertex, names: _Names, printer: _Printer, group_fu
     declared["vectors"].update(leg.momentum for leg in legs)
     declared["indices"].update(f"mu{leg.position}" for leg in legs if leg.kind == "vector")
     declared["lines"].update(lines.values())
-    writer = _Structure(group_names, lines, group_functions)
+    writer = _Structure(group_names, lines, group_functions, vertex.model)
     terms: list[str] = []
     for term in vertex.terms:
-        _dummy_dimensions(term.structure, ranks, leg_dims, dims)
+        _dummy_dimensions(term.structure, ranks, leg_dims, dims, vertex.model)
         for c, structure in _expand_momenta(term.structure):
             for slot in structure.slots():
                 if isinstance(slot, Dummy):
@@ -410,19 +433,28 @@ def render_form(rules: Rules) -> str:
     for group in model.groups.values():
         for kind in ("f", "T", "alt"):
             group_functions[f"{kind}:{group.name}"] = names.of(f"{kind}{group.name}")
+    arrays = [p.name for p in model.parameters.values() if p.is_array]
+    for name in arrays:  # a vector or matrix parameter is a commuting function of its indices, Y(i,j)
+        group_functions[f"Y:{name}"] = names.of(name)
     ranks = {g.name: g.rank for g in model.groups.values()}
+    ranks.update({space.name: space.size for space in model.spaces.values()})
     declared: dict[str, set[str]] = {"vectors": {"p"}, "indices": {"mu", "nu"}, "lines": set()}
     dims: dict[str, int] = {}
     statements = [_vertex_statement(v, names, printer, group_functions, declared, dims, ranks)
                   for v in rules.vertices]
     propagators = [_propagator_statement(p, names, printer, declared, dims) for p in rules.propagators]
-    symbols = sorted({names.of(n) for n in model.parameters}
+    symbols = sorted({names.of(n) for n in model.parameters if n not in arrays}
                      | {names.of(s.name) for p in rules.propagators for s in (p.a.free_symbols | p.b.free_symbols)
                         if s != P2}, key=lambda x: (x.lower(), x))
     fields = sorted({names.of(f) for f in model.fields}, key=lambda x: (x.lower(), x))
+    if any("conj(" in s for s in statements):  # conjugated matrix parameters in the structures
+        printer.functions.add("conj")
+    if any("comp(" in s for s in statements):  # legs of unrolled rules
+        printer.functions.add("comp")
     functions = ["bar", "dag", "den", *sorted(printer.functions)]
     functions += sorted(group_functions[k] for k in group_functions
-                        if any(group_functions[k] + "(" in s for s in statements + propagators))
+                        if any(group_functions[k] + "(" in s for s in statements + propagators)
+                        and group_functions[k] not in printer.functions)
 
     def _sorted(items: Iterable[str]) -> str:
         def key(x: str) -> tuple[str, int, str]:
@@ -453,7 +485,10 @@ def render_form(rules: Rules) -> str:
         f"{model.conventions.eps0123:+d} (our convention: check it against FORM's own before contracting two "
         "e_); den(x) = 1/x; conj(x) the complex conjugate. Group tensors: f<group>(a,b,c) structure "
         "constants, T<group>(a,i,j) generators in the fundamental (Tr T^a T^b = delta^{ab}/2), "
-        "alt<group>(i,j,...) the alternating tensor.")
+        "alt<group>(i,j,...) the alternating tensor. Index spaces of the model (generations): their indices "
+        "are declared with their size and contract with d_; a vector or matrix parameter Y is the function "
+        "Y(i,j) of its indices, conj(Y(i,j)) its complex conjugate; in unrolled rules a leg of one component "
+        "is comp(field,2).")
     header += _comment_block(
         "Contracted indices r1, r2, ... (Lorentz) and e1<group>, e2<group>, ... (group) are dummies: when one "
         "term can hold two copies of such a vertex, substitute with 'id once' in a repeat loop and rename the "

@@ -33,8 +33,9 @@ if TYPE_CHECKING:
     from ..model import Field, GaugeGroup, Model, Parameter
     from ..rules import CouplingPart, Leg, Propagator, Rules, Vertex
 
-# 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy")
-FORMAT_VERSION = "2.1"
+# 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy");
+# 2.1: global symmetries; 2.2: index spaces (spaces, parameter spaces/matrix/entries, leg components)
+FORMAT_VERSION = "2.2"
 SCHEMA_RESOURCE = "rules.schema.json"
 
 GAUGE_TEXT = {
@@ -83,21 +84,35 @@ def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
     }
 
 
-def _value(value: complex | None) -> dict[str, float] | None:
+def _value(value: Any) -> Any:
+    """A number as {real, imag}; a vector or matrix parameter's value as nested lists of them."""
     if value is None:
         return None
+    if getattr(value, "ndim", 0):
+        return [_value(v) for v in value]
     number = complex(value)
     return {"real": number.real, "imag": number.imag}
 
 
-def _parameter(p: "Parameter") -> dict[str, Any]:
+def _nested(items: list[Any], shape: tuple[int, ...]) -> list[Any]:
+    if len(shape) == 1:
+        return items
+    step = len(items) // shape[0]
+    return [_nested(items[k * step:(k + 1) * step], shape[1:]) for k in range(shape[0])]
+
+
+def _parameter(model: "Model", p: "Parameter") -> dict[str, Any]:
+    value = model.parameter_values({}).get(p.symbol) if p.is_array else p.value
     return {
         "name": p.name,
         "roles": list(p.roles),
         "complex": p.is_complex,
-        "value": _value(p.value),
+        "value": _value(value),
         "definition": None if p.definition is None else factor_text(p.definition),
         "description": p.description,
+        "spaces": list(p.spaces),
+        "matrix": p.matrix or None,
+        "entries": None if p.entries is None else _nested([factor_text(e) for e in p.entries], p.shape),
     }
 
 
@@ -142,6 +157,7 @@ def _leg(leg: "Leg") -> dict[str, Any]:
         "kind": leg.kind,
         "momentum": leg.momentum,
         "indices": list(leg.indices),
+        "components": [{"space": space, "component": c} for space, c in leg.components],
         "meaning": leg.meaning(),
     }
 
@@ -185,7 +201,7 @@ def _propagator(model: "Model", p: "Propagator") -> dict[str, Any]:
 
 
 def rules_to_dict(rules: "Rules") -> dict[str, Any]:
-    """The rules as plain data following `rules.schema.json` (format_version 2.0)."""
+    """The rules as plain data following `rules.schema.json` (format_version 2.2)."""
     from .. import __version__
 
     model = rules.model
@@ -194,7 +210,9 @@ def rules_to_dict(rules: "Rules") -> dict[str, Any]:
         "generator": f"vertexsmith {__version__}",
         "model": {"name": model.name, "description": model.description},
         "conventions": conventions_to_dict(rules),
-        "parameters": [_parameter(p) for p in model.parameters.values()],
+        "spaces": [{"name": sp.name, "size": sp.size, "description": sp.description}
+                   for sp in model.spaces.values()],
+        "parameters": [_parameter(model, p) for p in model.parameters.values()],
         "groups": [_group(rules, g) for g in model.groups.values()],
         "symmetries": [{"name": x.name, "kind": x.kind, "order": x.order, "soft": x.soft}
                        for x in model.symmetries.values()],

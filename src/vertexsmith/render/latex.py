@@ -264,7 +264,15 @@ def _parameters_table(rules: "Rules") -> list[str]:
         return ["The model has no parameters."]
     rows = [r"\begin{tabular}{lll}", r"name & value & description \\", r"\hline"]
     for p in parameters:
-        rows.append(f"${_name(p.name)}$ & {_number(p.value)} & {escape_text(p.description)} \\\\")
+        value = _number(p.value)
+        if p.is_array and p.entries is not None:  # a vector or matrix parameter: its entries as written
+            columns = p.shape[-1]
+            cells = [to_latex(e) for e in p.entries]
+            rows_ = [" & ".join(cells[k:k + columns]) for k in range(0, len(cells), columns)]
+            value = "$\\begin{pmatrix}" + " \\\\ ".join(rows_) + "\\end{pmatrix}$"
+        elif p.is_array:
+            value = "(no value)"
+        rows.append(f"${_name(p.name)}$ & {value} & {escape_text(p.description)} \\\\")
     rows.append(r"\end{tabular}")
     return rows
 

@@ -26,6 +26,7 @@ from typing import Iterable, Sequence
 import sympy
 from sympy.printing.numpy import NumPyPrinter
 
+from ..model import Parameter
 from ..codegen import (HELPERS_SOURCE, axes_text, axis_sizes, coefficient_code, propagator_function_source,
                        vertex_function_source)
 from ..rules import Rules
@@ -52,7 +53,10 @@ def _identifier_part(text: str) -> str:
 def _label_part(label: str) -> str:
     for prefix in ("bar(", "dag("):
         if label.startswith(prefix) and label.endswith(")"):
-            return prefix[:3] + "_" + _identifier_part(label[4:-1])
+            return prefix[:3] + "_" + _label_part(label[4:-1])
+    if label.endswith("]") and "[" in label:  # a leg of unrolled rules, e[2] or q[1,3]: e_2, q_1_3
+        name, _, components = label[:-1].partition("[")
+        return _identifier_part(name) + "".join(f"_{c}" for c in components.split(","))
     return _identifier_part(label)
 
 
@@ -81,8 +85,16 @@ def _unique(names: Iterable[str]) -> list[str]:
 # ------------------------------------------------------------------ tables
 
 def _number(value: complex) -> str:
+    if getattr(value, "ndim", 0):  # a vector or matrix parameter
+        return f"np.array({_nested(value.tolist())}, dtype=complex)"  # type: ignore[union-attr]
     c = complex(value)
     return repr(c.real) if c.imag == 0 else repr(c)
+
+
+def _nested(value: object) -> str:
+    if isinstance(value, list):
+        return "[" + ", ".join(_nested(v) for v in value) + "]"
+    return _number(complex(value))  # type: ignore[arg-type]
 
 
 def _fraction_literal(q: Fraction) -> str:
@@ -92,8 +104,8 @@ def _fraction_literal(q: Fraction) -> str:
 def _definition_order(rules: Rules) -> list[str]:
     """Parameters with a definition in other parameters, each after those it uses."""
     params = rules.model.parameters
-    pending = {name: {str(s) for s in p.definition.free_symbols} for name, p in params.items()
-               if p.definition is not None and p.definition.free_symbols}  # name -> the names it uses
+    pending = {name: {str(s) for s in _definition(p).free_symbols} for name, p in params.items()
+               if _definition(p).free_symbols}  # name -> the names it uses
     done: set[str] = {name for name in params if name not in pending}
     order: list[str] = []
     while pending:
@@ -105,6 +117,21 @@ def _definition_order(rules: Rules) -> list[str]:
             done.add(n)
             del pending[n]
     return order
+
+
+def _definition(p: Parameter) -> sympy.Expr:
+    """A parameter's definition through others; a vector or matrix parameter's entries as one list."""
+    if p.is_array:
+        return sympy.Tuple(*(p.entries or ()))
+    return p.definition if p.definition is not None else sympy.Integer(0)
+
+
+def _definition_code(p: Parameter) -> str:
+    if p.is_array:
+        entries = ", ".join(coefficient_code(entry) + " + 0j" for entry in p.entries or ())
+        return f"np.array([{entries}], dtype=complex).reshape({p.shape!r})"
+    assert p.definition is not None  # _definition_order lists defined parameters only
+    return coefficient_code(p.definition)
 
 
 def _gauge_symbols(rules: Rules) -> list[tuple[str, str]]:
@@ -124,6 +151,8 @@ def _parameters_block(rules: Rules) -> str:
     for name, p in model.parameters.items():
         number = values.get(p.symbol)
         note = p.description or ", ".join(p.roles) or "parameter"
+        if p.is_array:
+            note += f"; an array over {', '.join(p.spaces)}" + (f", {p.matrix}" if p.matrix else "")
         if p.definition is not None and p.definition.free_symbols:
             note += f"; = {p.definition} (recomputed unless given)"
         if number is None:
@@ -144,9 +173,7 @@ def _parameters_block(rules: Rules) -> str:
     lines.append("# parameters defined through others, in an order that respects their definitions")
     lines.append("_DEFINITIONS = (")
     for name in derived:
-        definition = model.parameters[name].definition
-        assert definition is not None  # _definition_order lists defined parameters only
-        lines.append(f"    ({name!r}, lambda P: {coefficient_code(definition)}),")
+        lines.append(f"    ({name!r}, lambda P: {_definition_code(model.parameters[name])}),")
     lines.append(")")
     return "\n".join(lines)
 
@@ -243,7 +270,7 @@ def symbolic(name):
 
     names = {"_vs_" + key: sympy.Function(name) for key, name in (
         ("metric", "g"), ("eps", "eps"), ("vector", "momentum"), ("f", "f"), ("T", "T"), ("delta", "delta"),
-        ("alt", "alt"))}
+        ("alt", "alt"), ("component", "component"))}
     names.update({"_vs_gamma": sympy.Function("gamma", commutative=False),
                   "_vs_sigma": sympy.Function("sigma", commutative=False),
                   "slash": sympy.Function("slash", commutative=False),
@@ -291,12 +318,13 @@ Momenta are arrays of shape (..., 4) holding (E, px, py, pz) with an upper index
 axes are a batch of phase-space points (they broadcast against each other). Results have shape
 (..., layout axes): for each leg in order, a Lorentz axis (vector legs, upper index, mu<k>), a
 spinor axis (fermion legs, Dirac representation, s<k>), then one axis per gauge-group index
-(a<k> adjoint, i<k> fundamental). Propagators have shape (...) for scalars, (..., 4, 4) spinor
+(a<k> adjoint, i<k> fundamental) and one per index space of the model's own (<space><k>). Propagators have shape (...) for scalars, (..., 4, 4) spinor
 axes for fermions, (..., 4, 4) upper Lorentz axes for vectors, then two axes per group (a
 Kronecker delta).
 
 params: a dict of parameter values by name, overriding PARAMETERS; parameters defined through
 others (e.g. a coupling from a fine-structure constant) follow the ones given unless given too.
+A vector or matrix parameter (over index spaces) is one numpy array.
 
 Tables: PARAMETERS (defaults), FIELDS, GROUPS, CONVENTIONS, SYMBOLIC (the factor of each
 function as text), VERTICES (leg labels -> function), VERTEX_LEGS (leg labels -> per leg: label,
@@ -336,6 +364,7 @@ def render_python_module(rules: Rules) -> str:
              "",
              "# ------------------------------------------------------------------ vertices"]
     ranks = {g.name: getattr(g, "rank", 1) for g in rules.model.groups.values()}
+    ranks.update({sp.name: sp.size for sp in rules.model.spaces.values()})
     for vertex, name in zip(rules.vertices, vertex_names):
         parts += ["", "", vertex_function_source(vertex, name, ranks)]
     parts += ["", "", "# ------------------------------------------------------------------ propagators"]

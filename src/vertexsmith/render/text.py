@@ -29,6 +29,7 @@ from ._table import Block, Column, Grid, Table, lay_out, natural_width, rich_lin
 from .json import conventions_to_dict
 
 if TYPE_CHECKING:
+    from ..model import Parameter
     from ..rules import Leg, Propagator, Rules, Vertex
 
 DEFAULT_WIDTH = 120
@@ -260,6 +261,11 @@ class UnicodePrinter(StrPrinter):
         alt, indices = self._group_object("ϵ", expr)
         return f"{alt}_{''.join(indices)}"
 
+    def _print_Component(self, expr: Any) -> str:
+        # an entry of a vector or matrix parameter, written as in the model language: Y[gen1,gen2]
+        name, *indices = expr.args
+        return f"{self._print(name)}[{','.join(str(i) for i in indices)}]"
+
     def _print_Chain(self, expr: Any) -> str:
         bar_leg, leg, matrix = expr.args
         legs = (subscript(f"{bar_leg}{leg}") if int(bar_leg) < 10 and int(leg) < 10
@@ -387,8 +393,14 @@ def _propagator_table(rules: "Rules", width: int) -> Table:
 
 
 def _parameter_table(rules: "Rules") -> Table:
-    rows = tuple((p.name, " ".join(p.roles) + (" complex" if p.is_complex else ""), _number(p.value), p.description)
-                 for p in rules.model.parameters.values())
+    def row(p: "Parameter") -> tuple[str, str, str, str]:
+        value = _number(p.value)
+        if p.is_array:  # a vector or matrix parameter: its shape here; its entries are in the model file
+            value = "×".join(str(n) for n in p.shape) + " over " + ",".join(p.spaces)
+        roles = " ".join(p.roles) + (" complex" if p.is_complex else "") + (f" {p.matrix}" if p.matrix else "")
+        return (p.name, roles, value, p.description)
+
+    rows = tuple(row(p) for p in rules.model.parameters.values())
     return Table((Column("name"), Column("roles"), Column("value", justify="right"), Column("description")), rows)
 
 
