@@ -21,7 +21,7 @@ from . import model as m
 from . import progress
 from .errors import DerivationError, UsageError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom, is_plain_product
-from .groups import dimension
+from .spaces import index_dimension
 from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                          GroupDummy,
@@ -68,7 +68,7 @@ def make_legs(model: m.Model, species: list[Species]) -> tuple[Leg, ...]:
     legs = []
     for k, s in enumerate(species):
         f = model.fields[s[0]]
-        reps = tuple((g, rep, model.index_dimension(g, rep)) for g, rep in f.representations)
+        reps = tuple((g, rep, index_dimension(model, g, rep)) for g, rep in f.representations)
         legs.append(Leg(k + 1, s[0], s[1], f.kind, f.is_grassmann, reps, f.is_complex))
     return tuple(legs)
 
@@ -572,7 +572,7 @@ def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge:
 
 
 def _propagator_reps(model: m.Model, f: m.Field) -> tuple[tuple[str, str, int], ...]:
-    return tuple((g, rep, model.index_dimension(g, rep)) for g, rep in f.representations)
+    return tuple((g, rep, index_dimension(model, g, rep)) for g, rep in f.representations)
 
 
 def _no_kernel(f: m.Field) -> DerivationError:

@@ -330,13 +330,5 @@ class Model:
     def has_non_abelian(self) -> bool:
         return any(not g.abelian for g in self.groups.values())
 
-    def index_dimension(self, name: str, representation: str) -> int:
-        """The length of an index axis: an index space's size, or N, N^2-1 of an SU(N) group."""
-        from .groups import dimension
-
-        if representation == FLAVOUR:
-            return self.spaces[name].size
-        return dimension(self.groups[name].rank, representation)
-
     def boson_group(self, field_name: str) -> GaugeGroup | None:
         return next((g for g in self.groups.values() if g.boson == field_name), None)

@@ -18,6 +18,7 @@ import sympy
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Span
+from .groups import dimension
 
 MAX_SPACE_SIZE = 24  # generations and flavours are few; unrolled vertices grow as a power of this
 _TOLERANCE = 1e-9  # relative; declared values are written with a few digits, round-off is far below
@@ -29,6 +30,13 @@ def space_size(decl: sx.SpaceDecl) -> int:
         raise ModelMeaningError(f"the size of index space '{decl.name}' must be a whole number from 1 to "
                                 f"{MAX_SPACE_SIZE}", decl.size_span, f"write e.g. {decl.name} 3")
     return int(decl.size)
+
+
+def index_dimension(model: m.Model, name: str, representation: str) -> int:
+    """The length of an index axis: an index space's size, or N, N^2-1 of an SU(N) group."""
+    if representation == m.FLAVOUR:
+        return model.spaces[name].size
+    return dimension(model.groups[name].rank, representation)
 
 
 def field_index_counts(lorentz: int, groups: int, spaces: int) -> tuple[int, ...]:
