@@ -13,6 +13,7 @@ import pytest
 
 import vertexsmith as vs
 from vertexsmith.check import check_model
+from vertexsmith.symbolic import factor_text, parse_factor
 
 from conftest import PL, PR
 
@@ -55,7 +56,7 @@ def test_yukawa_matrix_vertex_is_symbolic_and_evaluates_entry_by_entry():
     # source: Peskin & Schroeder ch. 4, Yukawa vertex -i g, g -> Y_ij (from memory)
     rules = toy("- Y[i,j] bar(psi[i]) s PR psi[j] + h.c.").derive()
     v = rules.vertex("bar(psi)", "psi", "s")
-    assert str(v.factor) == "(-I)*Component(Y, gen1, gen2)*ProjR"
+    assert str(v.factor) == "(-I)*Y[gen1,gen2]*PR"
     assert [leg.indices for leg in v.legs] == [("s1", "gen1"), ("s2", "gen2"), ()]
     y = np.array([[0.1, 0.2j], [0, 0.3 - 0.1j]])
     array = v.evaluate(np.zeros((3, 4)))
@@ -65,6 +66,17 @@ def test_yukawa_matrix_vertex_is_symbolic_and_evaluates_entry_by_entry():
     # the conjugate term: -conj(Y[i,j]) bar(psi[j]) dag(s) PL psi[i] gives -i conj(Y)_ji PL
     h = rules.vertex("bar(psi)", "psi", "dag(s)").evaluate(np.zeros((3, 4)))
     np.testing.assert_allclose(h, np.einsum("ab,ij->aibj", PL, -1j * y.conj().T), atol=1e-12)
+
+
+def test_factor_text_of_components_reads_back():
+    # the output vocabulary writes an entry as in the model file, Ye[gen1,gen2], conj(...) for its conjugate
+    model = vs.load_model(vs.example("lepton_flavour"))
+    symbols = {p.name: p.symbol for p in model.parameters.values()}
+    rules = model.derive()
+    assert factor_text(rules.vertex("bar(eR)", "L", "dag(H)").factor) == \
+        "(-I)*(conj(Ye[gen2,gen1])*delta_weak[i2,i3])*PL"
+    for v in rules.vertices + model.derive(unroll=True).vertices:
+        assert (parse_factor(factor_text(v.factor), symbols) - v.factor).expand() == 0, v.labels
 
 
 def test_values_override_takes_an_array():
@@ -116,7 +128,7 @@ def test_shipped_lepton_model_checks_clean_and_has_one_yukawa_vertex():
     assert [d for d in check_model(model) if d.severity != "note"] == []
     rules = model.derive()
     v = rules.vertex("bar(L)", "eR", "H")
-    assert str(v.factor) == "(-I)*(Component(Ye, gen1, gen2)*GroupDelta(weak, i1, i3))*ProjR"
+    assert str(v.factor) == "(-I)*(Ye[gen1,gen2]*delta_weak[i1,i3])*PR"
     # the propagator is diagonal in generations
     p = rules.propagator("eR")
     assert p.indices == ("s1", "s2", "gen1", "gen2")
