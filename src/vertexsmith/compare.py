@@ -41,7 +41,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from fractions import Fraction
 from pathlib import Path
-from typing import TYPE_CHECKING, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, Mapping, Sequence
 
 import numpy as np
 import sympy
@@ -54,11 +54,12 @@ from .parse import parse_hand_rules_text
 from .pipeline import derive
 from .rules import Rules, Vertex
 from .structures import permutation_sign
+from .spaces import random_array
 from .symbolic import factor_text
 from .syntax import HandRule, HandRules, HCall, HNode
 
 if TYPE_CHECKING:
-    from .model import Model
+    from .model import Model, Parameter
 
 RTOL = 1e-8
 
@@ -147,10 +148,13 @@ class ComparisonReport:
         return out
 
 
-def _random_values(model: "Model", rng: np.random.Generator) -> dict[str, complex]:
+def _random_values(model: "Model", rng: np.random.Generator) -> dict[str, Any]:
     """Random numbers for every independent parameter (those defined through others follow them)."""
-    overrides: dict[str, complex] = {}
+    overrides: dict[str, Any] = {}
     for name, p in model.parameters.items():
+        if p.is_array:  # a vector or matrix parameter: random entries that keep what it is declared to be
+            overrides[name] = random_array(rng, p)
+            continue
         if p.definition is not None and p.definition.free_symbols:
             continue
         value = rng.uniform(0.5, 1.5)
@@ -160,7 +164,8 @@ def _random_values(model: "Model", rng: np.random.Generator) -> dict[str, comple
 
 def _numbers(model: "Model", overrides: Mapping[str, complex], xi: Mapping[str, complex]) -> dict[str, complex]:
     resolved = model.parameter_values(dict(overrides))
-    out = {str(symbol): complex(value) for symbol, value in resolved.items()}
+    # a vector or matrix parameter stays an array
+    out = {str(symbol): value if isinstance(value, np.ndarray) else complex(value) for symbol, value in resolved.items()}
     out.update(xi)
     return out
 

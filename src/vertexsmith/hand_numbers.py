@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import string
 from dataclasses import dataclass, replace
-from typing import Any, Callable, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 
 import numpy as np
 
@@ -20,6 +20,9 @@ from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, le
 from .rules import Leg, Propagator, Rules
 from .structures import permutation_sign
 from .syntax import HandRule, HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient, HSum
+
+if TYPE_CHECKING:
+    from .model import Parameter
 
 # ------------------------------------------------------------------ numbers from hand factors
 
@@ -289,6 +292,8 @@ class HandNumeric:
             if name == "eps":
                 return self.tensor(levi_civita(ctx.eps0123), indices, False, span)
             return self._group_tensor(name, indices, span, named_group)
+        if indices and name in ctx.parameters and ctx.parameters[name].is_array:
+            return self._component(ctx.parameters[name], indices, span)
         if indices:
             raise ctx.error(f"'{name}' takes no index", span)
         if name == "I":
@@ -304,6 +309,17 @@ class HandNumeric:
         raise ctx.error(f"unknown name '{name}'", span, did_you_mean(name, ctx.known_names(),
                                                                      "use the model's parameters and the built-in names"))
 
+    def _component(self, p: "Parameter", indices: Sequence[tuple[str, Span]], span: Span) -> HandValue:
+        """Y[i,j] of a vector or matrix parameter: its array, with one axis per index space."""
+        if len(indices) != len(p.spaces):
+            raise self.ctx.error(f"'{p.name}' takes {len(p.spaces)} indices", span)
+        if p.name not in self.values:
+            raise self.ctx.error(f"the parameter '{p.name}' has no value", span, "give it a value in the model file")
+        spaces = [IndexSpace("group", self.ctx.model.spaces[sp].size, sp) for sp in p.spaces]
+        for (x, _), space in zip(indices, spaces):
+            self.ctx.spaces.setdefault(x, space)
+        return self.tensor(np.asarray(self.values[p.name]), indices, False, span, spaces)
+
     def _group_tensor(self, name: str, indices: Sequence[tuple[str, Span]], span: Span,
                       named_group: str | None = None) -> HandValue:
         ctx = self.ctx
@@ -318,6 +334,9 @@ class HandNumeric:
         else:
             raise ctx.error(f"cannot tell which group {name}[...] belongs to", span,
                             "give it at least one leg index (a3, i1, ...)")
+        if group in ctx.model.spaces and name == "delta":  # the delta of an index space of the model
+            space = IndexSpace("group", ctx.model.spaces[group].size, group)
+            return self.tensor(np.eye(space.dim, dtype=complex), indices, False, span, [space, space])
         n = ctx.ranks.get(group, 1)
         if n < 2:
             raise ctx.error(f"the group '{group}' is abelian: it has no {name}", span)
@@ -374,7 +393,10 @@ class HandNumeric:
             "sqrt": np.sqrt, "conj": np.conj, "sin": np.sin, "cos": np.cos, "tan": np.tan,
             "exp": np.exp, "log": np.log, "re": np.real, "im": np.imag}
         self._arity(node, 1)
-        x = self._plain(self.evaluate(args[0]), args[0].span, f"the argument of {f}()")
+        inner = self.evaluate(args[0])
+        if f == "conj" and inner.axes and not (inner.matrix or inner.momentum or inner.fermions):
+            return replace(inner, array=np.conj(inner.array))  # conj(Y[i,j]) of a matrix parameter
+        x = self._plain(inner, args[0].span, f"the argument of {f}()")
         return self.scalar(complex(functions[f](complex(x))))
 
     def _arity(self, node: HCall, n: int) -> None:
@@ -390,8 +412,8 @@ class HandNumeric:
 def group_tensor_name(name: str, indices: Sequence[tuple[str, Span]], ctx: HandContext) -> tuple[str, str | None]:
     """f_color[...], T_color[...], delta_color[...] (the group in the name, as vertexsmith writes them) -> (f, color)."""
     base, _, group = name.partition("_")
-    if indices and group and base in ("f", "T", "delta", "alt") and name not in ctx.parameters \
-            and group in ctx.model.groups:
+    if indices and group and base in ("f", "T", "delta", "alt") and name not in ctx.parameters and (
+            group in ctx.model.groups or (base == "delta" and group in ctx.model.spaces)):
         return base, group
     return name, None
 

@@ -11,7 +11,7 @@ import sympy
 
 from .hand_numbers import HandContext, group_tensor_name
 from .rules import MU, NU, P
-from .symbolic import (Chain, Dot, FourVector, Gamma, Gamma5, Generator, GroupAlternating, GroupDelta, LeviCivita,
+from .symbolic import (Chain, Component, Dot, FourVector, Gamma, Gamma5, Generator, GroupAlternating, GroupDelta, LeviCivita,
                        Metric, ProjL, ProjR, Sigma, Slash, StructureConstant)
 from .syntax import HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient, HSum
 
@@ -89,6 +89,8 @@ class HandSymbolic:
         if name in ("gamma5", "PL", "PR") and name not in ctx.parameters:
             return {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR}[name]
         if name in ctx.parameters:
+            if ctx.parameters[name].is_array and node.indices:
+                return Component(ctx.parameters[name].symbol, *slots)
             return ctx.parameters[name].symbol
         return ctx.xi.get(name, sympy.Symbol(name))
 
