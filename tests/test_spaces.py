@@ -135,6 +135,19 @@ def test_shipped_lepton_model_checks_clean_and_has_one_yukawa_vertex():
     assert p.evaluate([3.0, 0, 0, 1.0]).shape == (4, 4, 3, 3)
 
 
+def test_neutrino_yukawa_through_the_conjugate_doublet():
+    # L = -Yn_ij bar(L_k,i) eps_kl H*_l PR nR_j gives -i Yn_ij eps_kl PR (Peskin & Schroeder ch. 4 Yukawa
+    # vertex with a matrix coupling, from memory; eps_12 = +1 as the alternating tensor is declared)
+    model = vs.load_model(vs.example("lepton_flavour"))
+    yn = model.parameter_values()[model.parameters["Yn"].symbol]
+    v = model.derive().vertex("bar(L)", "nR", "dag(H)")
+    assert [leg.indices for leg in v.legs] == [("s1", "i1", "gen1"), ("s2", "gen2"), ("i3",)]
+    eps = np.array([[0, 1], [-1, 0]])
+    expected = -1j * np.einsum("ab,kl,ij->akibjl", PR, eps, yn)
+    np.testing.assert_allclose(v.evaluate(np.zeros((3, 4))), expected, atol=1e-12)
+    assert yn[2, 0] == 0.0002 and yn[1, 1] == pytest.approx(0.0002 + 0.0002j)  # y0 (1 + I)/10, y0 = 0.002
+
+
 # ---------------------------------------------------------------- errors at their place
 
 def _error(text: str) -> vs.VertexsmithError:
