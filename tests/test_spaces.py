@@ -82,7 +82,9 @@ def test_factor_text_of_components_reads_back():
 def test_values_override_takes_an_array():
     rules = toy("- Y[i,j] bar(psi[i]) s PR psi[j] + h.c.").derive()
     y = np.array([[1.0, 2.0], [3.0, 4.0j]])
-    array = rules.vertex("bar(psi)", "psi", "s").evaluate(np.zeros((3, 4)), values={"Y": y})
+    vertex = rules.vertex("bar(psi)", "psi", "s")
+    vertex.evaluate(np.zeros((3, 4)))  # the model's own matrix first: the next call must not reuse it
+    array = vertex.evaluate(np.zeros((3, 4)), values={"Y": y})
     np.testing.assert_allclose(array, np.einsum("ab,ij->aibj", PR, -1j * y), atol=1e-12)
     with pytest.raises(vs.UsageError, match=r"has shape \(3,\), not \(2, 2\)"):
         rules.vertex("bar(psi)", "psi", "s").evaluate(np.zeros((3, 4)), values={"Y": [1, 2, 3]})
