@@ -24,14 +24,19 @@ MODELS = [path.stem for path in shipped_models()]
 def _reference_vertex(vertex: vs.Vertex, momenta: np.ndarray) -> np.ndarray:
     """Sum over terms of (sympy-evaluated coefficient) x (einsum of the structure)."""
     model = vertex.model
-    numbers = model.parameter_values({})
+    values = model.parameter_values({})
+    # numbers for sympy; vector and matrix parameters go to the einsum as arrays
+    numbers = {s: v for s, v in values.items() if not isinstance(v, np.ndarray)}
+    arrays = {str(s): v for s, v in values.items() if isinstance(v, np.ndarray)}
     axes = [axis for leg in vertex.legs for axis in leg.axes]
     ranks = {name: g.rank for name, g in model.groups.items()}
+    ranks.update({name: space.size for name, space in model.spaces.items()})
     dims = {(leg.position, g): d for leg in vertex.legs for g, _, d in leg.representations}
     total = None
     for term in vertex.terms:
         c = complex(term.coefficient.subs(numbers).evalf())
-        tensor = c * evaluate_structure(term.structure, axes, momenta, model.conventions.eps0123, ranks, dims)
+        tensor = c * evaluate_structure(term.structure, axes, momenta, model.conventions.eps0123, ranks, dims,
+                                        arrays)
         total = tensor if total is None else total + tensor
     assert total is not None
     return total
@@ -62,7 +67,8 @@ def test_compiled_propagators_agree_with_their_coefficients(name: str) -> None:
     for prop in rules.propagators:
         p = rng.normal(size=4)
         xi = {str(s): 2.5 for s in prop.a.free_symbols | prop.b.free_symbols if str(s).startswith("xi_")}
-        numbers = {**rules.model.parameter_values({}), P2: p @ metric @ p}
+        numbers = {s: v for s, v in rules.model.parameter_values({}).items() if not isinstance(v, np.ndarray)}
+        numbers[P2] = p @ metric @ p
         numbers.update({s: 2.5 for s in prop.a.free_symbols | prop.b.free_symbols if str(s).startswith("xi_")})
         a, b = (complex(sympy.sympify(x).subs(numbers).evalf()) for x in (prop.a, prop.b))
         pslash = sum(g * lower for g, lower in zip(gammas, metric @ p))
