@@ -10,7 +10,7 @@ evaluates the structures with a leading point axis. Same layout and conventions 
 from __future__ import annotations
 
 import itertools
-from typing import TYPE_CHECKING, Callable, Sequence
+from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
 import numpy as np
 import sympy
@@ -19,7 +19,7 @@ from .groups import su_alternating, su_generators, su_structure_constants
 from .numeric import _CHIRAL, GAMMA, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                          GroupDummy, LegGroupIndex,
-                         LegIndex, Metric, Momentum, Sigma, Slot, Structure, StructureConstant, Vector)
+                         LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant, Vector)
 
 if TYPE_CHECKING:
     from .rules import Propagator, Vertex
@@ -35,8 +35,10 @@ def _momentum(momentum: Momentum, p: np.ndarray) -> np.ndarray:
 
 
 def _structure(structure: Structure, leg_axes: Sequence[tuple], p: np.ndarray, eps0123: int,
-               ranks: dict[str, int], leg_dims: dict[tuple[int, str], int]) -> np.ndarray:
-    """One structure as an array (N, leg axes...); p has shape (N, legs, 4)."""
+               ranks: dict[str, int], leg_dims: dict[tuple[int, str], int],
+               arrays: Mapping[str, np.ndarray] | None = None) -> np.ndarray:
+    """One structure as an array (N, leg axes...); p has shape (N, legs, 4); `arrays` holds the
+    values of vector and matrix parameters by name."""
     count = p.shape[0]
     names: dict[object, int] = {}
     fresh = itertools.count(1)
@@ -87,6 +89,12 @@ def _structure(structure: Structure, leg_axes: Sequence[tuple], p: np.ndarray, e
     for chain in structure.chains:
         _chain(chain, label, operands, subscripts, slot_label, p)
     for g in structure.group:
+        if isinstance(g, ParamTensor):  # a vector or matrix parameter over index spaces
+            value = (arrays or {})[g.group]
+            operands.append(np.conj(value) if g.conjugate else value)
+            subscripts.append([label(("group", s.leg, s.group)) if isinstance(s, LegGroupIndex)
+                               else label(("group-dummy", s.name)) for s in g.slots_])
+            continue
         n = ranks[g.group]
         if isinstance(g, StructureConstant):
             operands.append(su_structure_constants(n).astype(complex))
@@ -192,7 +200,9 @@ class VertexTable:
         spin_axes = [axis for leg in vertex.legs for axis in leg.axes if axis[0] != "group"]
         colour_axes = [axis for leg in vertex.legs for axis in leg.axes if axis[0] == "group"]
         ranks = {name: g.rank for name, g in model.groups.items()}
+        ranks.update({name: space.size for name, space in model.spaces.items()})
         dims = {(leg.position, g): d for leg in vertex.legs for g, _, d in leg.representations}
+        arrays = {str(k): v for k, v in self.values.items() if isinstance(v, np.ndarray)}
         by_colour: dict[tuple, np.ndarray] = {}
         for c, term in zip(self._coefficients[key], vertex.terms):
             if c == 0:
@@ -204,7 +214,7 @@ class VertexTable:
         parts = []
         for group, tensor in by_colour.items():
             colour = _structure(Structure((), (), group), colour_axes, np.zeros((1, len(vertex.legs), 4)),
-                                model.conventions.eps0123, ranks, dims)[0]
+                                model.conventions.eps0123, ranks, dims, arrays)[0]
             parts.append((tensor, colour))
         return parts
 

@@ -82,6 +82,8 @@ def _fail(text: str, start: int, end: int, message: str, hint: str = "") -> Usag
 
 
 def _dimension(model: "Model", group: str, representation: str) -> int:
+    if representation == "flavour":  # an index space of the model's own (generations): its size
+        return model.spaces[group].size
     n = model.groups[group].rank
     return n * n - 1 if representation == "adjoint" else n
 

@@ -10,15 +10,17 @@ in one space only. All errors are positioned at the text that is wrong.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import numpy as np
 import sympy
 
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Span
 from .groups import dimension
+
+if TYPE_CHECKING:
+    import numpy as np
 
 MAX_SPACE_SIZE = 24  # generations and flavours are few; unrolled vertices grow as a power of this
 _TOLERANCE = 1e-9  # relative; declared values are written with a few digits, round-off is far below
@@ -81,6 +83,8 @@ def _span(node: Any) -> Span:
 
 def random_array(rng: np.random.Generator, p: m.Parameter) -> np.ndarray:
     """Generic numbers for a vector or matrix parameter that respect what it is declared to be."""
+    import numpy as np
+
     real = rng.uniform(0.5, 1.5, size=p.shape)
     array = real + 1j * rng.uniform(0.5, 1.5, size=p.shape) if p.is_complex else real.astype(complex)
     if p.matrix == "hermitian":
@@ -95,6 +99,8 @@ def check_matrix_property(p: m.Parameter, values: Mapping[sympy.Symbol, Any], sp
     """A matrix declared hermitian or unitary must be so numerically; the error points at the worst entry."""
     if not p.matrix:
         return
+    import numpy as np
+
     array = values.get(p.symbol)
     if not isinstance(array, np.ndarray):
         return  # no numbers (yet): nothing to verify

@@ -7,14 +7,16 @@ functions, and this module knows the model's records only as types.
 from __future__ import annotations
 
 import cmath
+from functools import lru_cache
 from typing import TYPE_CHECKING, Any, Mapping
 
-import numpy as np
 import sympy
 
 from .errors import ModelMeaningError, UsageError, did_you_mean
 
 if TYPE_CHECKING:
+    import numpy as np
+
     from .model import GaugeGroup, Parameter
 
 
@@ -58,8 +60,27 @@ def resolve_values_from(parameters: Mapping[str, "Parameter"],
     return values
 
 
+@lru_cache(maxsize=1)
+def _parameter_array() -> type:
+    """The class of the values of vector and matrix parameters: a numpy array that sympy can take.
+
+    Parameter values go into `expr.subs(values)` all over the program; sympy converts every
+    value first, so an array must know its sympy form even where no entry of it is used. Made
+    on first use, so that a model without matrices never imports numpy.
+    """
+    import numpy as np
+
+    class ParameterArray(np.ndarray):
+        def _sympy_(self) -> sympy.Expr:
+            return sympy.ImmutableDenseNDimArray(np.asarray(self).tolist())
+
+    return ParameterArray
+
+
 def _array_value(p: "Parameter", values: Mapping[sympy.Symbol, Any]) -> np.ndarray | None:
     """The numeric array of a vector or matrix parameter from its entries; None when one has no number."""
+    import numpy as np
+
     if p.entries is None:
         return None
     numbers: list[complex] = []
@@ -76,11 +97,13 @@ def _array_value(p: "Parameter", values: Mapping[sympy.Symbol, Any]) -> np.ndarr
             raise ModelMeaningError(f"an entry of '{p.name}' is not a finite number ({result})", p.span,
                                     "check the entry and the parameters it is defined from")
         numbers.append(number)
-    return np.array(numbers, dtype=complex).reshape(p.shape)
+    return np.array(numbers, dtype=complex).reshape(p.shape).view(_parameter_array())
 
 
 def _array_override(p: "Parameter", value: Any) -> np.ndarray:
     """A caller's value for a vector or matrix parameter: an array of the declared shape, finite."""
+    import numpy as np
+
     try:
         array = np.asarray(value, dtype=complex)
     except (TypeError, ValueError):
@@ -91,7 +114,7 @@ def _array_override(p: "Parameter", value: Any) -> np.ndarray:
                          hint=f"'{p.name}' lives on {', '.join(p.spaces)}")
     if not np.all(np.isfinite(array)):
         raise UsageError(f"the value given for '{p.name}' has entries that are not finite numbers")
-    return array
+    return array.view(_parameter_array())
 
 
 def _number_value(name: str, value: Any) -> complex:

@@ -80,7 +80,8 @@ class _Verifier:
         self.rules, self.unitary, self.points, self.tolerance = rules, unitary, points, tolerance
         self.tables: dict = {}  # numeric vertices shared by every amplitude of these rules
         self.scale = max([1.0] + [abs(complex(v)) for k, v in rules.model.parameter_values({}).items()
-                                  if any(p.symbol == k and "mass" in p.roles for p in rules.model.parameters.values())])
+                                  if not getattr(v, "ndim", 0)
+                                  and any(p.symbol == k and "mass" in p.roles for p in rules.model.parameters.values())])
 
     def point(self, amp: Amplitude, seed: int, energy_factor: float = 1.0) -> np.ndarray:
         masses = amp.masses()
@@ -217,7 +218,8 @@ def light_states(rules: "Rules", max_mass: float | None = None) -> list[str]:
     """Physical states (particles, then antiparticles) whose propagator has its pole at the declared mass."""
     from .rules import P2
 
-    values = rules.model.parameter_values({})
+    # numbers only: vector and matrix parameters (index spaces) never set a mass
+    values = {k: v for k, v in rules.model.parameter_values({}).items() if not getattr(v, "ndim", 0)}
     out = []
     for name, f in rules.model.fields.items():
         if f.kind == "ghost":
