@@ -153,14 +153,15 @@ def test_exported_module_takes_the_matrix_as_one_array(tmp_path, unroll):
 
 def test_form_declares_matrices_as_functions():
     text = export_rules(vs.load_model(vs.example("lepton_flavour")).derive(), "form")
-    assert "*Ye(gen1,gen2)*dweak(i1,i3);" in text
-    assert "conj(Ye(gen2,gen1))" in text
+    assert "*Ye(i1gen,i2gen)*d_(i1weak,i3weak);" in text
+    assert "conj(Ye(i2gen,i1gen))" in text and "i1gen=3" in text
     functions = next(line for line in text.splitlines() if line.startswith("CFunctions"))
-    assert all(name in functions for name in ("Ye", "Kd", "conj", "dgen"))
+    assert all(name in functions for name in ("Ye", "Kd", "conj"))
     symbols = next(line for line in text.splitlines() if line.startswith("Symbols"))
     assert "Ye" not in symbols.split() and "Ye," not in symbols
     unrolled = export_rules(vs.load_model(vs.example("lepton_flavour")).derive(unroll=True), "form")
-    assert "id V(bar(comp(L,2)),comp(eR,3),H," in unrolled and "Ye(2,3)" in unrolled
+    assert "id vtx(bar(comp(L,2)),comp(eR,3),H," in unrolled and "Ye(2,3)" in unrolled
+    assert "comp" in next(line for line in unrolled.splitlines() if line.startswith("CFunctions"))
 
 
 def test_command_line_unroll(capsys):
