@@ -16,7 +16,7 @@ import vertexsmith
 from vertexsmith.expand import is_plain_product
 from vertexsmith.symbolic import is_plain_product as plain_in_symbolic
 from vertexsmith.render.json import rules_to_dict
-from vertexsmith.rules import _surely_symbolic
+from vertexsmith.symbolic import surely_symbolic
 from vertexsmith.symbolic import to_latex
 from vertexsmith.values import resolve_values_from
 
@@ -57,7 +57,7 @@ def test_simplify_is_skipped_only_where_it_could_not_find_a_number(top: list, bo
     a, b = _build(top), _build(bottom)
     ratio = a / b
     assert plain_in_symbolic is is_plain_product
-    if _surely_symbolic(ratio, a, b):
+    if surely_symbolic(ratio, a, b):
         assert not sympy.nsimplify(sympy.simplify(ratio)).is_Rational
 
 

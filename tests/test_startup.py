@@ -161,7 +161,7 @@ def test_printing_rules_needs_no_numpy():
 
 
 def test_numbers_still_come_when_asked_for():
-    from vertexsmith.rules import GAMMA, lower
+    from vertexsmith.numeric import GAMMA, lower
 
     rules = vertexsmith.load_model(vertexsmith.example("qed")).derive(gauge="feynman")
     assert rules.vertex("bar(ele)", "ele", "A").evaluate([[1, 0, 0, 0]] * 3).shape == (4, 4, 4)

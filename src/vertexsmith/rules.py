@@ -19,7 +19,7 @@ from .errors import UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
 from .fermion_flow import FERMION_FLOW_TEXT
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
-from .symbolic import (factor_text, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
+from .symbolic import (factor_text, surely_symbolic, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
@@ -212,7 +212,7 @@ class Vertex:
         for term in self.terms:
             for base, members in groups:
                 ratio = term.coefficient / base
-                if not ratio.is_Rational and not _surely_symbolic(ratio, term.coefficient, base):
+                if not ratio.is_Rational and not surely_symbolic(ratio, term.coefficient, base):
                     ratio = sympy.nsimplify(sympy.simplify(ratio))
                 if ratio.is_Rational:
                     members.append((ratio, term))
@@ -309,25 +309,6 @@ class Vertex:
         terms = tuple(terms_)
         terms = tuple(sorted(terms, key=lambda t: structure_sort_key(t.structure)))
         return Vertex(legs, terms, self.model, self.origins)
-
-
-def _surely_symbolic(ratio: sympy.Expr, top: sympy.Expr, bottom: sympy.Expr) -> bool:
-    """True when no simplify() can turn `ratio` = top/bottom into a number, so that it need not be tried.
-
-    Between two products of numbers, roots of integers, i, symbols, their conjugates and integer
-    powers of these, sympy's own cancellation is complete: a symbol left in the ratio stays there.
-    """
-    return bool(ratio.free_symbols) and _is_monomial(top) and _is_monomial(bottom)
-
-
-def _is_monomial(expr: sympy.Expr) -> bool:
-    def atom(f: sympy.Expr) -> bool:
-        return bool(f.is_Symbol or (isinstance(f, sympy.conjugate) and f.args[0].is_Symbol))
-
-    factors = expr.args if isinstance(expr, sympy.Mul) else (expr,)
-    return all(f.is_Rational or f is sympy.I or atom(f)
-               or (f.is_Pow and atom(f.base) and f.exp.is_Integer)
-               or (f.is_Pow and f.base.is_Integer and f.base > 0 and f.exp.is_Rational) for f in factors)
 
 
 def _part_latex(part: CouplingPart) -> str:
@@ -612,14 +593,5 @@ class Rules:
         return rules_rich(self)
 
 
-def __getattr__(name: str) -> object:
-    # GAMMA and lower were always importable from here; numpy is imported when they are asked for
-    if name in ("GAMMA", "lower"):
-        from . import numeric
-
-        return getattr(numeric, name)
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-
-
 __all__ = ["Leg", "Vertex", "VertexTerm", "CouplingPart", "Propagator", "Rules", "CONVENTIONS_TEXT", "P", "P2",
-           "MU", "NU", "GAMMA", "lower", "index_symbol", "momentum_symbol"]
+           "MU", "NU", "index_symbol", "momentum_symbol"]

@@ -482,3 +482,22 @@ def is_plain_product(expr: sympy.Expr) -> bool:
     factors = expr.args if isinstance(expr, sympy.Mul) else (expr,)
     return all(f.is_Rational or f is sympy.I or f.is_Symbol
                or (f.is_Pow and f.base.is_Symbol and f.exp.is_Integer and f.exp > 0) for f in factors)
+
+
+def surely_symbolic(ratio: sympy.Expr, top: sympy.Expr, bottom: sympy.Expr) -> bool:
+    """True when no simplify() can turn `ratio` = top/bottom into a number, so that it need not be tried.
+
+    Between two products of numbers, roots of integers, i, symbols, their conjugates and integer
+    powers of these, sympy's own cancellation is complete: a symbol left in the ratio stays there.
+    """
+    return bool(ratio.free_symbols) and _is_monomial(top) and _is_monomial(bottom)
+
+
+def _is_monomial(expr: sympy.Expr) -> bool:
+    def atom(f: sympy.Expr) -> bool:
+        return bool(f.is_Symbol or (isinstance(f, sympy.conjugate) and f.args[0].is_Symbol))
+
+    factors = expr.args if isinstance(expr, sympy.Mul) else (expr,)
+    return all(f.is_Rational or f is sympy.I or atom(f)
+               or (f.is_Pow and atom(f.base) and f.exp.is_Integer)
+               or (f.is_Pow and f.base.is_Integer and f.base > 0 and f.exp.is_Rational) for f in factors)
