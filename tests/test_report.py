@@ -102,6 +102,11 @@ def test_the_summary_lists_fields_parameters_and_conventions(qcd):
     for name in model.parameters:
         assert f"<td><code>{name}</code></td>" in summary
     assert "<td>1.2177</td>" in summary  # gs, the model's own number
+    # the spectrum: each quark's mass parameter evaluated (mu_q = 0.00216, md_q = 0.00467 in qcd.vsm)
+    fields = summary.split("<h3>Gauge groups</h3>")[0]
+    assert [re.search(r"<td>([0-9.]+)</td><td>(?:&#8211;|[a-z])", row)[1] for row in
+            re.findall(r"<tr><td><code>[ud]</code>.*?</tr>", fields)] == [str(model.parameters["mu_q"].value.real),
+                                                                         str(model.parameters["md_q"].value.real)]
     assert "epsilon^0123 = -1" in summary and "(+,-,-,-)" in summary
     assert "The checks were not run" in page
 
@@ -182,3 +187,23 @@ def test_report_command_unknown_field_gets_a_suggestion(tmp_path, capsys):
     assert main(["report", "qcd", "--field", "gh_g", "-o", str(tmp_path / "x.html")]) == 2
     assert "did you mean 'gh_G'" in capsys.readouterr().err
     assert not (tmp_path / "x.html").exists()
+
+
+def test_the_page_does_not_depend_on_the_hash_seed(tmp_path):
+    # deterministic output (common practice, no source): two processes, two hash seeds, one page
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    source_root = str(Path(vs.__file__).resolve().parents[1])
+    pages = []
+    for seed in ("1", "2"):
+        target = tmp_path / f"page{seed}.html"
+        env = dict(os.environ, PYTHONHASHSEED=seed,
+                   PYTHONPATH=os.pathsep.join([source_root, os.environ.get("PYTHONPATH", "")]))
+        done = subprocess.run([sys.executable, "-m", "vertexsmith", "report", "dark_doublet", "-q", "-o", str(target)],
+                              env=env, capture_output=True, text=True, timeout=300, check=False)
+        assert done.returncode == 0, done.stderr
+        pages.append(target.read_bytes())
+    assert pages[0] == pages[1] and pages[0].count(b'class="card vertex"') > 10

@@ -51,17 +51,28 @@ def _number(value: complex | None) -> str:
     return f"{z.real:.10g} {'+' if z.imag >= 0 else '&#8722;'} {abs(z.imag):.10g}i"
 
 
+def _mass_value(mass: Any, values: dict[Any, complex]) -> str:
+    """The numeric mass from the parameter values (the spectrum an unbroken model declares)."""
+    if not mass.free_symbols:
+        return _number(complex(mass))
+    if not mass.free_symbols <= set(values):
+        return "&#8211;"
+    return _number(complex(mass.subs({s: values[s] for s in mass.free_symbols})))
+
+
 def _fields_table(model: "Model") -> str:
     rows = []
+    values = model.parameter_values()
     for f in model.fields.values():
         charges = ", ".join(f"{escape(g)}: {q}" for g, q in f.charges) or "&#8211;"
         reps = ", ".join(f"{escape(g)}: {escape(r)}" for g, r in f.representations) or "&#8211;"
         reality = "complex" if f.is_complex else "real" if not f.is_fermion else "self-conjugate"
         rows.append(f"<tr><td><code>{escape(f.name)}</code></td><td>{escape(f.kind)}</td><td>{SPIN.get(f.kind, '?')}</td>"
-                    f"<td>{reality}</td><td>{_maths(to_latex(f.mass))}</td><td>{charges}</td><td>{reps}</td>"
+                    f"<td>{reality}</td><td>{_maths(to_latex(f.mass))}</td><td>{_mass_value(f.mass, values)}</td>"
+                    f"<td>{charges}</td><td>{reps}</td>"
                     f"<td>{escape(f.description)}</td></tr>")
     return ('<table class="fields"><thead><tr><th>field</th><th>kind</th><th>spin</th><th>reality</th><th>mass</th>'
-            f"<th>U(1) charges</th><th>representations</th><th>description</th></tr></thead><tbody>{''.join(rows)}"
+            f"<th>mass value</th><th>U(1) charges</th><th>representations</th><th>description</th></tr></thead><tbody>{''.join(rows)}"
             "</tbody></table>")
 
 
