@@ -84,11 +84,13 @@ def _array_value(p: "Parameter", values: Mapping[sympy.Symbol, Any]) -> np.ndarr
     if p.entries is None:
         return None
     numbers: list[complex] = []
+    known = set(values)
     for entry in p.entries:
         free = entry.free_symbols
-        if not free <= set(values):
+        if not free <= known:
             return None
-        result = (entry.subs({s: values[s] for s in free}) if free else entry).evalf()
+        # complex() of an exact number is immediate; evalf only where parameters were put in
+        result = entry.xreplace({s: sympy.sympify(values[s]) for s in free}).evalf() if free else entry
         try:
             number = complex(result)
         except (TypeError, OverflowError):
