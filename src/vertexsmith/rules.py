@@ -8,8 +8,8 @@ numbers in the documented array layout.
 from __future__ import annotations
 
 import dataclasses
-from fractions import Fraction
 from dataclasses import dataclass, replace
+from fractions import Fraction
 from functools import cached_property
 from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
@@ -18,6 +18,7 @@ import sympy
 from .errors import UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
 from .fermion_flow import FERMION_FLOW_TEXT
+from .propagator_latex import customary_propagator_latex
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (factor_text, surely_symbolic, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
                        momentum_symbol, to_latex)
@@ -401,7 +402,15 @@ class Propagator:
 
     @cached_property
     def latex(self) -> str:
-        return to_latex(self.factor)
+        """LaTeX in the customary order: i(pslash + m)/(p^2 - m^2), -i[g - (1 - xi) p p/(p^2 - xi M^2)]/(p^2 - M^2)."""
+        deltas = ""
+        if self.representations:
+            count = len(self.representations)
+            pairs = [self.indices[len(self.indices) - 2 * count + 2 * k:][:2] for k in range(count)]
+            deltas = " ".join(to_latex(GroupDelta(sympy.Symbol(g), *map(sympy.Symbol, pair)))
+                              for (g, _, _), pair in zip(self.representations, pairs)) + " \\, "
+        body = customary_propagator_latex(self.kind, self.a, self.b, self.chiral is not None)
+        return deltas + body if body is not None else to_latex(self.factor)
 
     def _repr_latex_(self) -> str:
         from .render.notebook import propagator_latex

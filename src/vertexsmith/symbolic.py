@@ -16,6 +16,7 @@ the model language exactly (`^`, `conj`). `parse_factor(text)` reads either form
 
 from __future__ import annotations
 
+import re
 from typing import Any
 
 import sympy
@@ -176,15 +177,21 @@ class Chain(sympy.Function):
 
 
 def _latex_group_index(s: Any, printer: LatexPrinter) -> str:
+    """a3 -> a_{3}; i1_color -> i_{1,\\mathrm{color}}: the group tag stays where a leg carries several groups."""
     name = str(s)
     base, _, group = name.partition("_")
     letter, digits = base[:1], base[1:]
     if digits.isdigit():
-        return f"{letter}_{{{digits}}}"
+        tag = f",\\mathrm{{{_escape_underscores(group)}}}" if group else ""
+        return f"{letter}_{{{digits}{tag}}}"
     stem = base.rstrip("0123456789")
     if not group and stem.isalpha() and stem != base:  # an index-space index, gen2: \mathrm{gen}_{2}
         return f"\\mathrm{{{stem}}}_{{{base[len(stem):]}}}"
     return printer._print(s)
+
+
+def _escape_underscores(text: str) -> str:
+    return text.replace("_", r"\_")
 
 
 class StructureConstant(sympy.Function):
@@ -405,24 +412,59 @@ def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:
     return out
 
 
-def to_latex(expr: sympy.Expr) -> str:
-    return sympy.latex(expr, symbol_names={**_greek_symbol_names(expr), **LATEX_NAMES})
+class _LatexPrinter(LatexPrinter):
+    """sympy's LaTeX printer with a star for the complex conjugate (a bar would read as a Dirac bar)."""
+
+    def _print_conjugate(self, expr: sympy.Expr, exp: Any = None) -> str:
+        text = f"{{{self._print(expr.args[0])}}}^{{*}}"
+        return f"\\left({text}\\right)^{{{exp}}}" if exp else text
 
 
-def _greek_symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
+def to_latex(expr: sympy.Expr, order: str | None = None) -> str:
+    """LaTeX of a factor: our objects, index names, and model names by `name_latex`."""
+    settings: dict[str, Any] = {"symbol_names": {**_symbol_names(expr), **LATEX_NAMES}}
+    if order is not None:
+        settings["order"] = order
+    return str(_LatexPrinter(settings).doprint(expr))
+
+
+# names the engine makes: leg indices mu3, momenta p2, propagator p, mu, nu, gauge parameters xi_<boson>
+_INTERNAL = re.compile(r"^(mu|nu|p|r)[0-9]*$")
+
+
+def _symbol_names(expr: sympy.Expr) -> dict[sympy.Symbol, str]:
     names: dict[sympy.Symbol, str] = {}
     for s in expr.free_symbols:
         text = str(s)
-        for prefix, tex in (("mu", r"\mu"), ("p", "p")):
-            if text.startswith(prefix) and text[len(prefix):].isdigit():
-                names[s] = f"{tex}_{{{text[len(prefix):]}}}"
-        if text.startswith("xi_"):
-            names[s] = rf"\xi_{{{text[3:]}}}"
-        elif not text.isascii():
-            names[s] = _ascii_latex(text)
-        elif s not in names and len(text) > 1 and text.isalnum() and text.lower() not in _GREEK:
-            names[s] = rf"\mathrm{{{text}}}"
+        match = _INTERNAL.match(text)
+        if match:
+            prefix, digits = match.group(1), text[len(match.group(1)):]
+            tex = {"mu": r"\mu", "nu": r"\nu", "p": "p", "r": r"\rho"}[prefix]
+            names[s] = f"{tex}_{{{digits}}}" if digits else tex
+        elif text.startswith("xi_"):
+            names[s] = rf"\xi_{{{name_latex(text[3:])}}}"
+        else:
+            names[s] = name_latex(text)
     return names
+
+
+def name_latex(name: str) -> str:
+    """A model name in math mode, literally: m, \\mathrm{mu\\_q}, \\mathrm{gh\\_G}.
+
+    A name that is a whole Greek letter (mu, lambda, Lambda) or is written with Greek letters
+    (μ) is typeset Greek; a double underscore asks for a subscript: m__u -> m_{u}, theta__W -> \\theta_{W}.
+    """
+    if "__" in name:
+        base, _, sub = name.partition("__")
+        return f"{{{name_latex(base)}}}_{{{name_latex(sub)}}}"
+    if not name.isascii():
+        return _ascii_latex(name)
+    if name in _GREEK_LOWER_COMMANDS or (name[:1].isupper() and name.lower() in _GREEK_UPPER_COMMANDS
+                                          and name[1:].islower()):
+        return "\\" + name
+    if len(name) == 1:
+        return name
+    return rf"\mathrm{{{_escape_underscores(name)}}}"
 
 
 def greek_command(char: str) -> str | None:

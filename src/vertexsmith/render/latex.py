@@ -1,9 +1,10 @@
 r"""Rules as LaTeX: a standalone article, or with `snippet=True` only the rules.
 
-The standalone document needs nothing beyond a plain LaTeX installation (article class and
-amsmath). Slashed momenta are written `\not{p}`, the form `symbolic.to_latex` produces. The
-snippet is two `align*` environments (vertices, propagators) preceded by comment lines stating
-the conventions, for pasting into a document that loads amsmath.
+The standalone document needs a plain LaTeX installation (article class, amsmath, lmodern for
+scalable fonts). Slashed momenta are written `\not{p}`, the form `symbolic.to_latex` produces.
+The snippet is one `align*` environment per vertex and per propagator (pages break between
+them) preceded by comment lines stating the conventions, for pasting into a document that loads
+amsmath.
 
 Symbols go through `symbolic.to_latex` (names and factors alike); plain text
 (names, descriptions) is escaped, so a model can never inject LaTeX commands.
@@ -11,7 +12,7 @@ Symbols go through `symbolic.to_latex` (names and factors alike); plain text
     >>> import vertexsmith
     >>> rules = vertexsmith.load_model(vertexsmith.example("qed")).derive(gauge="feynman")
     >>> render(rules, snippet=True).count(r"\begin{align*}")
-    2
+    5
 """
 
 from __future__ import annotations
@@ -154,13 +155,13 @@ def _propagator_line(p: "Propagator") -> str:
 
 
 def _align(blocks: list[list[str]]) -> list[str]:
-    """An align* environment: lines of a block joined by \\\\, blocks by a little more space."""
-    lines: list[str] = []
-    for b, block in enumerate(blocks):
-        for k, line in enumerate(block):
-            last_of_block, last = k == len(block) - 1, b == len(blocks) - 1 and k == len(block) - 1
-            lines.append(line if last else line + (r" \\[1ex]" if last_of_block and len(block) > 1 else r" \\"))
-    return [r"\begin{align*}", *lines, r"\end{align*}"] if lines else []
+    """One align* environment per block (a vertex or a propagator), so that pages can break between
+    them without \\allowdisplaybreaks in the user's document; lines of a block joined by \\\\."""
+    out: list[str] = []
+    for block in blocks:
+        if block:
+            out += [r"\begin{align*}", *[line + r" \\" for line in block[:-1]], block[-1], r"\end{align*}"]
+    return out
 
 
 def _rules_body(rules: "Rules") -> list[str]:
@@ -262,7 +263,7 @@ def _parameters_table(rules: "Rules") -> list[str]:
     parameters = list(rules.model.parameters.values())
     if not parameters:
         return ["The model has no parameters."]
-    rows = [r"\begin{tabular}{lll}", r"name & value & description \\", r"\hline"]
+    rows = [r"\begin{tabular}{llp{0.5\linewidth}}", r"name & value & description \\", r"\hline"]
     for p in parameters:
         value = _number(p.value)
         if p.is_array and p.entries is not None:  # a vector or matrix parameter: its entries as written
@@ -284,7 +285,7 @@ def _legs_table(rules: "Rules") -> list[str]:
             seen.setdefault(leg.label, leg)
     if not seen:
         return []
-    rows = [r"\begin{tabular}{lll}", r"leg & written & meaning \\", r"\hline"]
+    rows = [r"\begin{tabular}{llp{0.5\linewidth}}", r"leg & written & meaning \\", r"\hline"]
     for label in sorted(seen, key=lambda lab: (seen[lab].field, seen[lab].conjugate)):
         leg = seen[label]
         symbol = _leg_symbol(leg)
@@ -301,6 +302,7 @@ def render_document(rules: "Rules") -> str:
     lines = [
         r"\documentclass[11pt]{article}",
         r"\usepackage[T1]{fontenc}",
+        r"\usepackage{lmodern}",  # scalable fonts: T1 without it falls back to bitmap fonts
         r"\usepackage[utf8]{inputenc}",
         r"\usepackage{amsmath}",
         r"\allowdisplaybreaks",
