@@ -263,7 +263,7 @@ def _parameters_table(rules: "Rules") -> list[str]:
     parameters = list(rules.model.parameters.values())
     if not parameters:
         return ["The model has no parameters."]
-    rows = [r"\begin{tabular}{llp{0.5\linewidth}}", r"name & value & description \\", r"\hline"]
+    rows = [r"\begin{tabular}{llp{0.4\linewidth}}", r"name & value & description \\", r"\hline"]
     for p in parameters:
         value = _number(p.value)
         if p.is_array and p.entries is not None:  # a vector or matrix parameter: its entries as written
@@ -285,7 +285,7 @@ def _legs_table(rules: "Rules") -> list[str]:
             seen.setdefault(leg.label, leg)
     if not seen:
         return []
-    rows = [r"\begin{tabular}{llp{0.5\linewidth}}", r"leg & written & meaning \\", r"\hline"]
+    rows = [r"\begin{tabular}{llp{0.4\linewidth}}", r"leg & written & meaning \\", r"\hline"]
     for label in sorted(seen, key=lambda lab: (seen[lab].field, seen[lab].conjugate)):
         leg = seen[label]
         symbol = _leg_symbol(leg)
