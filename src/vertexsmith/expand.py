@@ -247,9 +247,14 @@ class _Expander:
     # ------------------------------------------------------------------ expansion
     def product(self, left: list[_Partial], right: list[_Partial], span: Span) -> list[_Partial]:
         out: list[_Partial] = []
+        # a factor that holds a field takes the derivatives before it whole: its field-free summands
+        # (the m of (m + s)) are differentiated to zero rather than passed over
+        holds_field = any(isinstance(a, FieldAtom) for rp in right for a in rp.atoms)
         for lp in left:
             for rp in right:
                 if lp.pending and not any(isinstance(a, FieldAtom) for a in rp.atoms):
+                    if holds_field and not rp.pending:
+                        continue  # d[mu] of a constant summand vanishes
                     # a derivative passes over constant factors (numbers, Dirac matrices) to the next field;
                     # d[mu] d[nu] phi: the second operator joins the first, both act on phi
                     if rp.pending and rp.atoms:
