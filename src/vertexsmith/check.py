@@ -40,11 +40,12 @@ import sympy
 
 from . import model as m
 from . import progress
-from .derive import (canonical_legs, check_chains, derive_rules, make_legs, monomial_terms, quadratic_kernel,
-                     species_of)
+from .assemble import derive_rules
+from .derive import canonical_legs, check_chains, make_legs, monomial_terms, species_label, species_of
 from .errors import Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, conjugate_param, expand_model
 from .invariance import find_violations, operator_dimension, show_net_charges
+from .quadratic import QuadraticForm, quadratic_form
 from .rules import P2, Vertex, VertexTerm
 from .spaces import random_array
 
@@ -119,13 +120,6 @@ def _key(model: m.Model, mono: Monomial) -> Key:
 
 def _conjugate_key(model: m.Model, key: Key) -> Key:
     return tuple(sorted((name, (not c) if model.fields[name].two_ended else c) for name, c in key))
-
-
-def _label(model: m.Model, species: Species) -> str:
-    name, conjugate = species
-    if not conjugate:
-        return name
-    return f"bar({name})" if model.fields[name].is_fermion else f"dag({name})"
 
 
 def _show(expr: sympy.Expr) -> str:
@@ -222,8 +216,10 @@ class _Checker:
         step.advance()
         self.check_dimensions(good)
         self.check_tadpoles(good)
-        self.check_mixing(good)
-        self.check_quadratic(good)
+        form = self.quadratic(good)
+        if form is not None:
+            self.check_mixing(form)
+            self.check_quadratic(good, form)
         step.advance()
         self.check_hermiticity(good)
         self.check_derivation(monomials)
@@ -274,41 +270,46 @@ class _Checker:
         for mono in monomials:
             fields = mono.fields
             if len(fields) == 1 and not fields[0].derivatives:
-                label = _label(self.model, species_of(self.model, fields[0]))
+                label = species_label(self.model, species_of(self.model, fields[0]))
                 self.add("warning", f"term is linear in '{label}' (a tadpole)", mono.origin,
                          "expand the field around the minimum of its potential, so that the linear term cancels")
 
-    # -------------------------------------------------------------- mixing
-    def check_mixing(self, monomials: list[Monomial]) -> None:
-        for mono in monomials:
-            key = _key(self.model, mono)
-            if len(key) != 2:
-                continue
-            (f1, c1), (f2, c2) = key
-            if f1 != f2 or (self.model.fields[f1].two_ended and c1 == c2):
-                self.add("error", f"'{_label(self.model, key[0])}' and '{_label(self.model, key[1])}' mix at "
-                         "quadratic order", mono.origin,
-                         "rotate the fields to mass eigenstates (or remove the mixing term) before deriving "
-                         "propagators")
+    # -------------------------------------------------------------- the quadratic form
+    def quadratic(self, monomials: list[Monomial]) -> QuadraticForm | None:
+        """K_ij(p) of the Lagrangian as written (no gauge fixing), or None after reporting why not."""
+        try:
+            return quadratic_form(self.model, monomials)
+        except VertexsmithError as error:
+            self.add_error(error)
+            return None
+
+    def check_mixing(self, form: QuadraticForm) -> None:
+        """One diagnostic per pair of fields that K joins, at the first line that joins them."""
+        for mixing in form.mixings:
+            a, b = mixing.fields
+            lines = ", ".join(str(span.line) for span in mixing.origins)
+            where = f"line{'s' if len(mixing.origins) > 1 else ''} {lines}"
+            if not mixing.supported:
+                what = f"'{a}' pairs with itself" if a == b else f"'{a}' and '{b}' mix"
+                self.add("error", f"{what} at quadratic order ({where}): {mixing.reason}", mixing.origins[0],
+                         "rotate the fields to mass eigenstates, or remove the mixing term")
+            else:
+                self.add("note", f"'{a}' and '{b}' mix at quadratic order ({where}): their propagators form a "
+                         "matrix", mixing.origins[0],
+                         "the rules carry the propagator matrix i K^-1 over the mixed fields; rotate to mass "
+                         "eigenstates for diagonal propagators")
 
     # -------------------------------------------------------------- kinetic and mass terms
-    def check_quadratic(self, monomials: list[Monomial]) -> None:
+    def check_quadratic(self, monomials: list[Monomial], form: QuadraticForm) -> None:
         quadratic: dict[str, list[Monomial]] = defaultdict(list)
         for mono in monomials:
             key = _key(self.model, mono)
-            if len(key) == 2 and key[0][0] == key[1][0] and (key[0][1] != key[1][1]
-                                                            or not self.model.fields[key[0][0]].two_ended):
+            if len(key) == 2 and key[0][0] == key[1][0]:
                 quadratic[key[0][0]].append(mono)
         for f in self.model.fields.values():
             if f.kind == "ghost":  # generated with the gauge fixing, never written by hand
                 continue
-            monos = quadratic.get(f.name, [])
-            try:
-                kernel = quadratic_kernel(self.model, f, monos)
-            except VertexsmithError as error:
-                self.add_error(error)
-                continue
-            self.check_field(f, monos, kernel)
+            self.check_field(f, quadratic.get(f.name, []), dict(form.entry(f.name, f.name)))
 
     def check_field(self, f: m.Field, monos: list[Monomial], kernel: dict[str, sympy.Expr]) -> None:
         zero = sympy.Integer(0)
@@ -428,7 +429,7 @@ class _Checker:
 
     # -------------------------------------------------------------- what derive would refuse
     def check_derivation(self, monomials: list[Monomial]) -> None:
-        """Errors of the derivation itself (unrotated mixing, kernels that cannot be inverted)."""
+        """Errors of the derivation itself (unsupported mixing, kernels that cannot be inverted)."""
         try:
             derive_rules(self.model, monomials, gauge="xi")
         except VertexsmithError as error:
@@ -469,4 +470,4 @@ def _mass_text(model: m.Model, f: m.Field) -> str:
     return f"- {mass}^2 dag({n}) {n}" if f.is_complex else f"- 1/2 {mass}^2 {n}^2"
 
 
-__all__ = ["Diagnostic", "check_model", "conjugate_monomial", "operator_dimension", "quadratic_kernel", "SEVERITIES"]
+__all__ = ["Diagnostic", "check_model", "conjugate_monomial", "operator_dimension", "SEVERITIES"]

@@ -321,7 +321,8 @@ def propagator_function_source(prop: "Propagator", name: str, documented: bool =
     what += [f"{g} axes (size {d}), a Kronecker delta" for g, _, d in prop.representations]
     body = [f"def {name}(p, params=None):"]
     if documented:
-        doc = [f"Propagator of {prop.field} ({prop.kind}): {factor_text(prop.factor)}", "",
+        what_of = prop.field if prop.partner is None else f"the mixed pair {prop.label}"
+        doc = [f"Propagator of {what_of} ({prop.kind}): {factor_text(prop.factor)}", "",
                "p: momentum along the particle arrow, array of shape (..., 4).",
                f"Returns a complex array of shape {axes_text(sizes)}" + (": " + "; ".join(what) if what else "") + "."]
         body.append(textwrap.indent('"""' + "\n".join(doc) + '\n"""', "    "))
@@ -335,6 +336,9 @@ def propagator_function_source(prop: "Propagator", name: str, documented: bool =
         body += [f"    left = ({coefficient_code(left)}) * one",
                  f"    right = ({coefficient_code(right)}) * one",
                  "    out = (left[..., None, None] * _PL + right[..., None, None] * _PR) @ _slash(p)"]
+        if prop.chiral_mass is not None:  # an entry of a Dirac block with chiral masses
+            body += [f"    out = out + ({coefficient_code(prop.chiral_mass[0])}) * one[..., None, None] * _PL",
+                     f"    out = out + ({coefficient_code(prop.chiral_mass[1])}) * one[..., None, None] * _PR"]
     elif prop.kind == "dirac":
         body += [f"    a = ({coefficient_code(prop.a)}) * one",
                  f"    b = ({coefficient_code(prop.b)}) * one",

@@ -1,4 +1,7 @@
-"""Feynman rules from monomials: vertices by functional differentiation, propagators by inversion.
+"""Vertices from monomials by functional differentiation, and the monomials the derivation adds.
+
+Propagators are read from the quadratic form (`quadratic.py`) and inverted in `propagate.py`;
+`assemble.derive_rules` runs the whole stage. The gauge-fixing and ghost monomials live here.
 
 Vertex = i x sum over assignments of the monomial's fields to the legs. Identical bosonic
 fields without derivatives or indices are interchangeable, so k of them contribute k! at once
@@ -18,18 +21,16 @@ from typing import Iterable, Iterator, Sequence
 import sympy
 
 from . import model as m
-from . import progress
-from .errors import DerivationError, UsageError
+from .errors import DerivationError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom, is_plain_product
 from .spaces import index_dimension
-from .rules import P2, Leg, Propagator, Rules, Vertex, VertexTerm
+from .rules import Leg, Vertex, VertexTerm
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                          GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant,
                          Vector, canonical_structure, momentum_slots, permutation_sign, replace_slot,
                          structure_sort_key)
 
-GAUGES = ("xi", "feynman", "unitary")
 MAX_ASSIGNMENTS = 40_320  # 8!: beyond this one monomial's vertex takes more than seconds
 Species = tuple[str, bool]
 
@@ -402,6 +403,15 @@ def _merge_momenta(terms: list[tuple[sympy.Expr, Structure]]) -> list[tuple[symp
     return sorted(terms, key=lambda t: structure_sort_key(t[1]))
 
 
+def _has_total_momentum(structure: Structure, legs: int) -> bool:
+    for position in momentum_slots(structure):
+        momentum = structure.slots()[position]
+        assert isinstance(momentum, Momentum)
+        if len(momentum.terms) == legs and len({c for _, c in momentum.terms}) == 1:
+            return True
+    return False
+
+
 def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial]) -> Vertex | None:
     legs = make_legs(model, canonical_legs(model, species))
     pairs: list[tuple[sympy.Expr, Structure]] = []
@@ -410,7 +420,10 @@ def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial
     collected = _collect(pairs)
     if not collected:
         return None
-    merged = _merge_momenta(collected)
+    # momentum conservation: a term with the total momentum p1 + ... + pn in a slot vanishes
+    merged = [(c, s) for c, s in _merge_momenta(collected) if not _has_total_momentum(s, len(legs))]
+    if not merged:
+        return None
     terms = tuple(VertexTerm(c, s) for c, s in sorted(merged, key=lambda t: structure_sort_key(t[1])))
     origins = tuple(sorted({mono.origin.line for mono in monomials}))
     return Vertex(legs, terms, model, origins)
@@ -418,7 +431,7 @@ def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial
 
 # ------------------------------------------------------------------ propagators
 
-def _gauge_fixing(model: m.Model, group: m.GaugeGroup, gauge: str) -> list[Monomial]:
+def gauge_fixing_monomials(model: m.Model, group: m.GaugeGroup, gauge: str) -> list[Monomial]:
     """-1/(2 xi) (d.A)^2 for a group with Lorenz-type R_xi gauge fixing."""
     boson = model.fields[group.boson]
     if group.fixing != "lorenz":
@@ -432,7 +445,7 @@ def _gauge_fixing(model: m.Model, group: m.GaugeGroup, gauge: str) -> list[Monom
     return [Monomial(-1 / (2 * xi), atoms, group.span)]
 
 
-def _has_ghosts(model: m.Model, group: m.GaugeGroup, gauge: str) -> bool:
+def has_ghosts(model: m.Model, group: m.GaugeGroup, gauge: str) -> bool:
     """Ghosts belong to a gauge-fixed non-abelian group; unitary gauge drops the fixing of massive bosons."""
     massive = model.fields[group.boson].mass != 0
     return not group.abelian and group.fixing == "lorenz" and not (gauge == "unitary" and massive)
@@ -446,7 +459,7 @@ def ghost_monomials(model: m.Model, gauge: str = "xi") -> list[Monomial]:
     """
     out: list[Monomial] = []
     for group in model.groups.values():
-        if not _has_ghosts(model, group, gauge):
+        if not has_ghosts(model, group, gauge):
             continue
         gh, name = group.ghost, group.name
         kinetic = (FieldAtom(gh, True, None, ("m",), group.span, ((name, "a"),)),
@@ -460,173 +473,8 @@ def ghost_monomials(model: m.Model, gauge: str = "xi") -> list[Monomial]:
     return out
 
 
-def _momentum_sign(mom: Momentum) -> sympy.Expr:
-    """With p(leg 1) = -p and p(leg 2) = +p, a combination sum c_k p_k equals (this) x p."""
-    return sympy.Add(*[(-1 if leg == 1 else 1) * sympy.Rational(c.numerator, c.denominator)
-                       for leg, c in mom.terms])
-
-
-def quadratic_kernel(model: m.Model, f: m.Field, monomials: Iterable[Monomial]) -> dict[str, sympy.Expr]:
-    """Gamma_2 / i of one field from its quadratic monomials, split by structure.
-
-    Keys: 'one' (scalar part, may hold p2 = p.p), 'metric' (coefficient of g^{mu nu}), 'pp' (of
-    p^mu p^nu); for fermions 'slash_L', 'slash_R' (coefficient of p-slash on each chirality) and
-    'one_L', 'one_R'. Legs as derive's propagators: (bar/dag f, f) or (f, f), p along the arrow.
-    Canonical: scalar one = p2 - m^2; Dirac slash_L = slash_R = 1, one_L = one_R = -m; vector
-    metric = -p2 + m^2. The reading follows derive.propagator_for, which inverts the same kernel.
-    """
-    species = [(f.name, True), (f.name, False)] if f.two_ended else [(f.name, False), (f.name, False)]
-    legs = make_legs(model, species)
-    kernel: dict[str, sympy.Expr] = defaultdict(lambda: sympy.Integer(0))
-    for mono in monomials:
-        for coefficient, structure in monomial_terms(model, mono, legs):
-            if any(not isinstance(g, GroupDelta) for g in structure.group):
-                raise DerivationError(f"the quadratic terms of '{f.name}' are not diagonal in its group indices",
-                                      mono.origin, "write its kinetic and mass terms with the group indices "
-                                      "contracted")
-            value = coefficient / sympy.I
-            key = "one"
-            for t in structure.tensors:
-                if isinstance(t, Dot):
-                    value *= _momentum_sign(t.p) * _momentum_sign(t.q) * P2
-                elif isinstance(t, Metric):
-                    key = "metric"
-                elif isinstance(t, Vector):
-                    value *= _momentum_sign(t.momentum)
-                    key = "pp"
-                else:
-                    raise DerivationError(f"the quadratic terms of '{f.name}' contain an epsilon tensor", mono.origin,
-                                          "parity-odd kinetic terms are not supported")
-            for chain in structure.chains:
-                if any(isinstance(mat, Sigma) for mat in chain.matrices):
-                    raise DerivationError(f"the quadratic terms of '{f.name}' contain sigma[mu,nu]", mono.origin,
-                                          f"write Dirac kinetic and mass terms as bar({f.name}) "
-                                          f"(I gamma[mu] d[mu] - m) {f.name}")
-                slashes = [mat for mat in chain.matrices if isinstance(mat, Gamma)]
-                if len(slashes) == 1 and isinstance(slashes[0].slot, Momentum):
-                    value *= _momentum_sign(slashes[0].slot)
-                    key = "slash"
-                elif slashes:
-                    raise DerivationError(f"cannot read the quadratic terms of '{f.name}'", mono.origin)
-                # 1 = PL + PR and gamma5 = PR - PL: each chirality separately
-                chiral = [mat.kind for mat in chain.matrices if isinstance(mat, Chiral)]
-                weights = {"PL": {"L": 1}, "PR": {"R": 1}, "gamma5": {"L": -1, "R": 1}}.get(
-                    chiral[0] if chiral else "", {"L": 1, "R": 1})
-                for hand, w in weights.items():
-                    kernel[f"{key}_{hand}"] += w * value
-            if not structure.chains:
-                kernel[key] += value
-    return {k: sympy.expand(v) for k, v in kernel.items()}
-
-
-
-def propagator_for(model: m.Model, f: m.Field, monomials: list[Monomial], gauge: str) -> Propagator:
-    """i x the inverse of the quadratic kernel of one field."""
-    # the kernel is factored only as part of the propagator's coefficients, once, below
-    kernel = quadratic_kernel(model, f, monomials)
-    if f.kind in ("scalar", "ghost"):
-        k = kernel.get("one", sympy.Integer(0))
-        if k == 0:
-            raise _no_kernel(f)
-        return Propagator(f.name, "scalar", sympy.factor(sympy.I / k), sympy.Integer(0), gauge, model,
-                          _propagator_reps(model, f))
-    if f.is_fermion:
-        zero = sympy.Integer(0)
-        alpha, beta = kernel.get("slash_L", zero), kernel.get("slash_R", zero)
-        mass_l, mass_r = kernel.get("one_L", zero), kernel.get("one_R", zero)
-        if mass_l != mass_r and sympy.simplify(mass_l - mass_r) != 0:  # equal kernels need no simplify
-            raise DerivationError(f"the mass terms of '{f.name}' differ between its chiralities", f.span,
-                                  "write the mass as - m bar(psi) psi, or rotate the chiral phase away")
-        if alpha != beta and sympy.simplify(alpha - beta) != 0:
-            if mass_l != 0:
-                raise DerivationError(f"'{f.name}' has a mass but chiral kinetic terms", f.span,
-                                      "write the kinetic term as bar(psi) I gamma[mu] D[mu] psi")
-            if alpha == 0 and beta == 0:
-                raise _no_kernel(f)
-            # K = pslash (alpha PL + beta PR)  =>  D = i (PL / alpha + PR / beta) pslash / p^2
-            left = sympy.factor(sympy.I / (alpha * P2)) if alpha != 0 else zero
-            right = sympy.factor(sympy.I / (beta * P2)) if beta != 0 else zero
-            return Propagator(f.name, "dirac", zero, zero, gauge, model, _propagator_reps(model, f), (left, right))
-        a, b = alpha, mass_l
-        denominator = sympy.factor(a**2 * P2 - b**2)
-        if denominator == 0:
-            raise _no_kernel(f)
-        # (a pslash + b)^-1 = (a pslash - b) / (a^2 p^2 - b^2)
-        return Propagator(f.name, "dirac", sympy.factor(sympy.I * a / denominator),
-                          sympy.factor(-sympy.I * b / denominator), gauge, model, _propagator_reps(model, f))
-    a, b = kernel.get("metric", sympy.Integer(0)), kernel.get("pp", sympy.Integer(0))
-    longitudinal = sympy.factor(a + b * P2)
-    if a == 0 or longitudinal == 0:
-        group = model.boson_group(f.name)
-        if a == 0:
-            hint = f"add the kinetic term -1/4 F[mu,nu] F[mu,nu] of '{f.name}'"
-        elif group is not None:
-            hint = f"a massless vector needs gauge fixing: remove 'fixing none' from group '{group.name}'"
-        else:
-            hint = "a massless vector needs gauge fixing: make it the boson of a gauge group"
-
-        raise DerivationError(f"the quadratic kernel of '{f.name}' cannot be inverted", f.span, hint)
-    # (a g + b p p)^-1 = g / a - b p p / (a (a + b p^2))
-    return Propagator(f.name, "vector", sympy.factor(sympy.I / a),
-                      sympy.factor(-sympy.I * b / (a * longitudinal)), gauge, model, _propagator_reps(model, f))
-
-
-def _propagator_reps(model: m.Model, f: m.Field) -> tuple[tuple[str, str, int], ...]:
-    return tuple((g, rep, index_dimension(model, g, rep)) for g, rep in f.representations)
-
-
-def _no_kernel(f: m.Field) -> DerivationError:
-    return DerivationError(f"the field '{f.name}' has no kinetic term, so it has no propagator", f.span,
-                           "add its kinetic term to the lagrangian")
-
-
-# ------------------------------------------------------------------ everything
-
-def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi") -> Rules:
-    """Every vertex (three or more legs) and every propagator of a model, from its expanded monomials."""
-    if gauge not in GAUGES:
-        raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
-    monomials = list(monomials) + ghost_monomials(model, gauge)
-    for mono in monomials:
-        check_chains(model, mono)
-    groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)
-    for mono in monomials:
-        species = tuple(sorted(species_of(model, a) for a in mono.fields))
-        groups[species].append(mono)
-    vertices: list[Vertex] = []
-    quadratic: dict[str, list[Monomial]] = defaultdict(list)
-    step = progress.stage("deriving vertices", total=len(groups))
-    for species, monos in groups.items():
-        step.advance()
-        if len(species) >= 3:
-            v = vertex_from(model, list(species), monos)
-            if v is not None:
-                vertices.append(v)
-        elif len(species) == 2:
-            (f1, c1), (f2, c2) = species
-            field = model.fields[f1]
-            if f1 != f2 or (field.two_ended and c1 == c2):
-                line = monos[0].origin
-                raise DerivationError(f"'{_label(model, species[0])}' and '{_label(model, species[1])}' mix at "
-                                      "quadratic order", line,
-                                      "rotate the fields to mass eigenstates (or remove the mixing term) "
-                                      "before deriving propagators")
-            quadratic[f1].extend(monos)
-    for group in model.groups.values():
-        quadratic[group.boson].extend(_gauge_fixing(model, group, gauge))
-    without_ghosts = {g.ghost for g in model.groups.values() if not _has_ghosts(model, g, gauge)}
-    propagators = []
-    step = progress.stage("deriving propagators", total=len(model.fields))
-    for f in model.fields.values():
-        step.advance()
-        if f.kind == "ghost" and f.name in without_ghosts:
-            continue
-        propagators.append(propagator_for(model, f, quadratic.get(f.name, []), gauge))
-    vertices.sort(key=lambda v: (len(v.legs), v.labels))
-    return Rules(model, gauge, tuple(vertices), tuple(propagators))
-
-
-def _label(model: m.Model, s: Species) -> str:
+def species_label(model: m.Model, s: Species) -> str:
+    """A leg species as the model language writes it: phi, dag(phi), bar(psi)."""
     f = model.fields[s[0]]
     if not s[1]:
         return s[0]

@@ -21,7 +21,7 @@ from typing import TYPE_CHECKING, Callable
 
 from . import model as m
 from .build import build_model
-from .derive import derive_rules
+from .assemble import derive_rules
 from .errors import Source, UsageError, VertexsmithError
 from .expand import Monomial, expand_model
 from .parse import parse_text

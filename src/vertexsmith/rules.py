@@ -27,6 +27,7 @@ if TYPE_CHECKING:
     import numpy as np
 
     from .model import GaugeGroup, Model
+    from .quadratic import QuadraticForm
 
 CONVENTIONS_TEXT = (
     "metric (+,-,-,-); all momenta incoming; d_mu on a leg with momentum p gives -i p_mu; "
@@ -343,7 +344,9 @@ class Propagator:
     """i x inverse of the quadratic kernel of one field, momentum p along the particle arrow.
 
     scalar: D = a(p2); Dirac: D = a(p2) p-slash + b(p2); vector: D^{mu nu} = a(p2) g^{mu nu} + b(p2) p^mu p^nu,
-    where p2 = p.p.
+    where p2 = p.p. Chiral Dirac entries: D = (cL PL + cR PR) p-slash (+ dL PL + dR PR with `chiral_mass`).
+    Where fields mix, each entry of the matrix i K^-1 over the block is one Propagator: `partner`
+    names the field at the conjugated end (None on the diagonal), see `propagate.py`.
     """
 
     field: str
@@ -354,10 +357,18 @@ class Propagator:
     model: "Model" = dataclasses.field(compare=False, repr=False)
     representations: tuple[tuple[str, str, int], ...] = ()
     chiral: tuple[sympy.Expr, sympy.Expr] | None = None  # D = (cL PL + cR PR) pslash for chiral kinetic terms
+    partner: str | None = None  # an off-diagonal entry of a mixed block joins field to conj(partner)
+    chiral_mass: tuple[sympy.Expr, sympy.Expr] | None = None  # D also holds dL PL + dR PR (mixed chiral masses)
 
     @property
     def label(self) -> str:
-        return self.field
+        """The field, or for an off-diagonal entry the two legs it joins: 'A X', 'H1 dag(H2)', 'u bar(t)'."""
+        if self.partner is None:
+            return self.field
+        partner = self.model.fields[self.partner]
+        if partner.is_fermion:
+            return f"{self.field} bar({self.partner})"
+        return f"{self.field} dag({self.partner})" if partner.is_complex else f"{self.field} {self.partner}"
 
     @property
     def momentum(self) -> str:
@@ -381,7 +392,8 @@ class Propagator:
             expr = self.a
         elif self.chiral is not None:
             left, right = self.chiral
-            expr = _over_common_denominator([(left, ProjL * Slash(P)), (right, ProjR * Slash(P))])
+            masses = [(self.chiral_mass[0], ProjL), (self.chiral_mass[1], ProjR)] if self.chiral_mass else []
+            expr = _over_common_denominator([(left, ProjL * Slash(P)), (right, ProjR * Slash(P))] + masses)
         elif self.kind == "dirac":
             expr = _over_common_denominator([(self.a, Slash(P)), (self.b, sympy.Integer(1))])
         else:
@@ -481,6 +493,8 @@ class Rules:
     gauge: str
     vertices: tuple[Vertex, ...]
     propagators: tuple[Propagator, ...]
+    # K_ij(p), the quadratic form the propagators invert (gauge fixing and ghosts included)
+    quadratic: "QuadraticForm | None" = dataclasses.field(default=None, compare=False, repr=False)
 
     @property
     def conventions(self) -> str:
@@ -566,25 +580,37 @@ class Rules:
         name = self.propagator(field).field
         return dict(self.model.fields[name].representations)
 
-    def propagator(self, label: str) -> Propagator:
-        """The propagator of a field (its name or its conjugate's label)."""
-        if not isinstance(label, str):
+    def propagator(self, label: str, partner: str | None = None) -> Propagator:
+        """The propagator of a field (its name or its conjugate's label); with `partner`, the entry of a
+        mixed block that joins the field to the partner's conjugated end, e.g. propagator("H1", "dag(H2)")."""
+        if not isinstance(label, str) or not isinstance(partner, (str, type(None))):
             raise UsageError("propagator() takes a field label as a string", hint='e.g. rules.propagator("psi")')
+        name, other = self._field_name(label), self._field_name(partner) if partner is not None else None
+        if other == name:
+            other = None
+        for p in self.propagators:
+            if p.field == name and p.partner == other:
+                return p
+        known = [p.label for p in self.propagators]
+        wanted = name if other is None else f"{name} {other}"
+        if other is not None and any(p.field == name for p in self.propagators):
+            raise UsageError(f"'{name}' and '{other}' do not mix: no propagator joins them",
+                             hint="the propagators are: " + "; ".join(known[:12]))
+        raise UsageError(f"no propagator for '{label}'", hint=did_you_mean(wanted, known, ""))
+
+    def _field_name(self, label: str) -> str:
+        """The field a label names; a real field's bar()/dag() names no leg."""
         name = label
         for prefix in ("bar(", "dag("):
             if label.startswith(prefix) and label.endswith(")"):
                 name = label[len(prefix):-1]
         if name.endswith("]") and "[" in name and name.split("[")[0] in self.model.fields:
             name = name.split("[")[0]  # a component of a field over index spaces: the same propagator
-        for p in self.propagators:
-            if p.field == name:
-                field = self.model.fields[name]
-                if name != label and not field.is_complex:
-                    raise UsageError(f"'{name}' is its own conjugate: '{label}' names no leg",
-                                     hint=f'write rules.propagator("{name}")')
-                return p
-        raise UsageError(f"no propagator for '{label}'",
-                         hint=did_you_mean(name, [p.field for p in self.propagators], ""))
+        field = self.model.fields.get(name)
+        if name != label and field is not None and not field.is_complex:
+            raise UsageError(f"'{name}' is its own conjugate: '{label}' names no leg",
+                             hint=f'write rules.propagator("{name}")')
+        return name
 
     def _repr_latex_(self) -> str:
         from .render.notebook import rules_latex

@@ -84,8 +84,9 @@ def propagator_card(model: "Model", propagator: "Propagator") -> str:
     kind = propagator_kind(model, propagator)
     latex = propagator.latex
     indices = " ".join(index_html(i) for i in propagator.indices) or "none"
-    return (f'<section class="card propagator" id="propagator-{escape(propagator.field)}">'
-            f'<h3><code>{escape(propagator.field)}</code> <small>{escape(kind)}, spin {SPIN.get(kind, "?")}'
+    anchor = propagator.field if propagator.partner is None else f"{propagator.field}-{propagator.partner}"
+    return (f'<section class="card propagator" id="propagator-{escape(anchor)}">'
+            f'<h3><code>{escape(propagator.label)}</code> <small>{escape(kind)}, spin {SPIN.get(kind, "?")}'
             f'</small></h3><div class="card-body"><div class="picture-box">'
             f"{propagator_svg(propagator_picture(model, propagator), propagator.field)}</div>"
             f'<div class="details"><div class="factor">{latex_to_mathml(latex, display=True)}</div>'

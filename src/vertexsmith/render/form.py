@@ -387,7 +387,10 @@ def _wrap(statement: str) -> str:
 
 def _propagator_statement(prop: Propagator, names: _Names, printer: _Printer, declared: dict[str, set[str]],
                           dims: dict[str, int]) -> str:
-    arguments = [names.of(prop.field), "p?"]
+    arguments = [names.of(prop.field)]
+    if prop.partner is not None:  # an entry of a mixed block: P(field, conj(partner), ...)
+        arguments.append(_leg_label(prop.label.split(" ", 1)[1], names))
+    arguments.append("p?")
     if prop.kind == "vector":
         arguments += ["mu?", "nu?"]
         body = _join([_times(printer(prop.a), "d_(mu,nu)"), _times(printer(prop.b), "p(mu)*p(nu)")]
@@ -399,8 +402,11 @@ def _propagator_statement(prop: Propagator, names: _Names, printer: _Printer, de
         if chiral is not None:
             # (cL PL + cR PR) pslash with PL, PR = (1 -+ gamma5)/2
             left, right = chiral
+            masses = prop.chiral_mass or (0, 0)
             body = _join([_times(printer(c / 2), f"({m})*g_(j,p)") for c, m in
-                          ((left, "gi_(j) - g5_(j)"), (right, "gi_(j) + g5_(j)")) if c != 0])
+                          ((left, "gi_(j) - g5_(j)"), (right, "gi_(j) + g5_(j)")) if c != 0]
+                         + [_times(printer(c / 2), f"({m})") for c, m in
+                            ((masses[0], "gi_(j) - g5_(j)"), (masses[1], "gi_(j) + g5_(j)")) if c != 0])
         else:
             body = _join([_times(printer(prop.a), "g_(j,p)")] + ([_times(printer(prop.b), "gi_(j)")]
                                                                  if prop.b != 0 else []))

@@ -35,7 +35,8 @@ if TYPE_CHECKING:
 
 # 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy");
 # 2.1: global symmetries; 2.2: index spaces (spaces, parameter spaces/matrix/entries, leg components)
-FORMAT_VERSION = "2.2"
+# 3.0: the propagators of fields that mix form a matrix (entries with partner, label, chiral)
+FORMAT_VERSION = "3.0"
 SCHEMA_RESOURCE = "rules.schema.json"
 
 GAUGE_TEXT = {
@@ -186,22 +187,33 @@ def _gauge_parameter(model: "Model", p: "Propagator") -> str | None:
     return str(group.xi)
 
 
+def _chiral(p: "Propagator") -> dict[str, str] | None:
+    if p.chiral is None:
+        return None
+    masses = p.chiral_mass or (0, 0)
+    return {"slash_L": factor_text(p.chiral[0]), "slash_R": factor_text(p.chiral[1]),
+            "one_L": factor_text(sympy.sympify(masses[0])), "one_R": factor_text(sympy.sympify(masses[1]))}
+
+
 def _propagator(model: "Model", p: "Propagator") -> dict[str, Any]:
     return {
         "field": p.field,
+        "partner": p.partner,
+        "label": p.label,
         "kind": p.kind,
         "momentum": p.momentum,
         "indices": list(p.indices),
         "factor": {"text": factor_text(p.factor), "latex": p.latex},
         "a": factor_text(p.a),
         "b": factor_text(p.b),
+        "chiral": _chiral(p),
         "gauge": p.gauge,
         "gauge_parameter": _gauge_parameter(model, p),
     }
 
 
 def rules_to_dict(rules: "Rules") -> dict[str, Any]:
-    """The rules as plain data following `rules.schema.json` (format_version 2.2)."""
+    """The rules as plain data following `rules.schema.json` (format_version 3.0)."""
     from .. import __version__
 
     model = rules.model

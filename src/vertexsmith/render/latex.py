@@ -151,7 +151,8 @@ def _vertex_lines(vertex: "Vertex") -> list[str]:
 def _propagator_line(p: "Propagator") -> str:
     indices = [_index(i) for i in p.indices if not i.startswith("s")]
     upper = f"^{{{' '.join(indices)}}}" if indices else ""
-    return f"  D_{{{_name(p.field)}}}{upper}(p) &= {_tex(p.latex)}"
+    name = _name(p.field) if p.partner is None else f"{_name(p.field)} {_name(p.partner)}"
+    return f"  D_{{{name}}}{upper}(p) &= {_tex(p.latex)}"
 
 
 def _align(blocks: list[list[str]]) -> list[str]:

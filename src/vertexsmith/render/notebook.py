@@ -80,7 +80,7 @@ def vertex_latex(vertex: "Vertex") -> str:
 
 def propagator_latex(propagator: "Propagator") -> str:
     indices = " ".join(_index(i) for i in propagator.indices) or "-"
-    return (f"$\\displaystyle \\begin{{array}}{{ll}} {_text(propagator.field)} & {indices} \\end{{array}}"
+    return (f"$\\displaystyle \\begin{{array}}{{ll}} {_text(propagator.label)} & {indices} \\end{{array}}"
             f" \\qquad {propagator.latex}$")
 
 
@@ -89,7 +89,7 @@ def rules_latex(rules: "Rules") -> str:
     rows = [r"\text{vertex} & \text{factor} \\ \hline"]
     rows += [f"{_text(' '.join(v.labels))} & {v.latex} \\\\" for v in rules.vertices]
     rows += [r"\hline \text{propagator} & \\ \hline"]
-    rows += [f"{_text(p.field)} & {p.latex} \\\\" for p in rules.propagators]
+    rows += [f"{_text(p.label)} & {p.latex} \\\\" for p in rules.propagators]
     return r"$\displaystyle \begin{array}{ll}" + " ".join(rows) + r"\end{array}$"
 
 
@@ -136,7 +136,7 @@ def propagator_rich(propagator: "Propagator") -> Any:
     table = Table(show_edge=False)
     for heading in ("field", "kind", "indices", "propagator (p along the arrow)"):
         table.add_column(heading)
-    table.add_row(*_cells(propagator.field, propagator.kind, " ".join(propagator.indices) or "-",
+    table.add_row(*_cells(propagator.label, propagator.kind, " ".join(propagator.indices) or "-",
                           _factor_text(propagator.factor)))
     return table
 
@@ -157,7 +157,7 @@ def rules_rich(rules: "Rules") -> Any:
     propagators.add_column("field")
     propagators.add_column("propagator")
     for p in rules.propagators:
-        propagators.add_row(*_cells(p.field, _factor_text(p.factor)))
+        propagators.add_row(*_cells(p.label, _factor_text(p.factor)))
     return Group(vertices, propagators)
 
 

@@ -340,7 +340,8 @@ def _needs_fraction(rules: Rules) -> bool:
 def render_python_module(rules: Rules) -> str:
     """The text of a standalone Python module with the rules as numpy functions (deterministic)."""
     vertex_names = _unique(vertex_function_name(v.labels) for v in rules.vertices)
-    propagator_names = _unique(propagator_function_name(p.field) for p in rules.propagators)
+    propagator_names = _unique(propagator_function_name(p.field if p.partner is None else f"{p.field}_{p.partner}")
+                               for p in rules.propagators)
     parts = [_module_docstring(rules, vertex_names, propagator_names),
              "",
              "from __future__ import annotations",
@@ -385,7 +386,7 @@ def render_python_module(rules: Rules) -> str:
         parts.append(f"    {vertex.labels!r}: {legs!r},")
     parts += ["}", "", "PROPAGATORS = {"]
     for prop, name in zip(rules.propagators, propagator_names):
-        parts.append(f"    {prop.field!r}: {name},")
+        parts.append(f"    {prop.label!r}: {name},")
     parts += ["}", "", "", _FIND.replace("{BRACKET_CALLS}", inspect.getsource(_bracket_calls)).strip("\n"), ""]
     names = ["MODEL", "GAUGE", "GROUPS", "CONVENTIONS", "PARAMETERS", "FIELDS", "SYMBOLIC", "VERTICES", "VERTEX_LEGS",
              "PROPAGATORS", "find_vertex", "symbolic", *vertex_names, *propagator_names]

@@ -384,7 +384,7 @@ def _propagator_text(p: "Propagator") -> str:
 
 def _propagator_table(rules: "Rules", width: int) -> Table:
     columns = (Column("field"), Column("kind"), Column("indices"), Column("propagator"))
-    rows = [(p.field, p.kind, " ".join(index_name(i) for i in p.indices) or "–") for p in rules.propagators]
+    rows = [(p.label, p.kind, " ".join(index_name(i) for i in p.indices) or "–") for p in rules.propagators]
     # as for vertices: the room left for the propagator, broken between terms, never inside brackets
     used = sum(max([cell_len(columns[k].header)] + [cell_len(row[k]) for row in rows]) for k in range(3))
     limit = max(16, width - used - 12)

@@ -1,0 +1,57 @@
+"""The derive stage as a whole: vertices from `derive`, propagators from the quadratic form.
+
+    monomials (+ gauge fixing, ghosts) ─┬─ three or more fields ─▶ vertices        (derive.py)
+                                        └─ two fields ─▶ K_ij(p) (quadratic.py) ─▶ i K^-1 (propagate.py)
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from typing import Sequence
+
+from . import model as m
+from . import progress
+from .derive import (Species, check_chains, gauge_fixing_monomials, ghost_monomials, has_ghosts, species_of,
+                     vertex_from)
+from .errors import UsageError
+from .expand import Monomial
+from .propagate import propagators_from
+from .quadratic import quadratic_form
+from .rules import Rules, Vertex
+
+GAUGES = ("xi", "feynman", "unitary")
+
+
+def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi") -> Rules:
+    """Every vertex (three or more legs) and every propagator of a model, from its expanded monomials."""
+    if gauge not in GAUGES:
+        raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
+    monomials = list(monomials) + ghost_monomials(model, gauge)
+    for mono in monomials:
+        check_chains(model, mono)
+    groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)
+    quadratic: list[Monomial] = []
+    for mono in monomials:
+        species = tuple(sorted(species_of(model, a) for a in mono.fields))
+        if len(species) >= 3:
+            groups[species].append(mono)
+        elif len(species) == 2:
+            quadratic.append(mono)
+    vertices: list[Vertex] = []
+    step = progress.stage("deriving vertices", total=len(groups))
+    for species, monos in groups.items():
+        step.advance()
+        v = vertex_from(model, list(species), monos)
+        if v is not None:
+            vertices.append(v)
+    for group in model.groups.values():
+        quadratic.extend(gauge_fixing_monomials(model, group, gauge))
+    form = quadratic_form(model, quadratic)
+    without_ghosts = frozenset(g.ghost for g in model.groups.values() if not has_ghosts(model, g, gauge))
+    step = progress.stage("deriving propagators", total=len(form.blocks()))
+    propagators = propagators_from(form, gauge, skip=without_ghosts, on_block=step.advance)
+    vertices.sort(key=lambda v: (len(v.legs), v.labels))
+    return Rules(model, gauge, tuple(vertices), tuple(propagators), form)
+
+
+__all__ = ["GAUGES", "derive_rules"]
