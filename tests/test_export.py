@@ -76,7 +76,7 @@ def test_exported_propagators_match_evaluate(exported: dict, name: str, rng: np.
     for prop in rules.propagators:
         xi = {s.name: 1.7 for s in prop.a.free_symbols | prop.b.free_symbols if s.name.startswith("xi_")}
         momenta = rng.normal(size=(5, 4)) * 2.0
-        batch = module.PROPAGATORS[prop.field](momenta, params=xi)
+        batch = module.PROPAGATORS[prop.label](momenta, params=xi)  # an entry of a mixed block: "A X"
         for point in range(5):
             expected = prop.evaluate(momenta[point], values=xi)
             assert batch[point].shape == expected.shape

@@ -91,7 +91,7 @@ def _matrix(form: QuadraticForm, block: Sequence[str], key: str) -> sympy.Matrix
 
 def _inverse(matrix: sympy.Matrix, what: str, field: m.Field) -> sympy.Matrix:
     """The inverse of a flavour matrix of the block, entries over their common determinant."""
-    det = sympy.factor(matrix.det())
+    det = sympy.expand(matrix.det())
     if det == 0:
         raise DerivationError(f"the quadratic kernel of the mixed fields {what} cannot be inverted", field.span,
                               "give every field of the block its kinetic term (and a massless vector its "
@@ -99,8 +99,10 @@ def _inverse(matrix: sympy.Matrix, what: str, field: m.Field) -> sympy.Matrix:
     return matrix.adjugate() / det
 
 
-def _simplified(expr: sympy.Expr) -> sympy.Expr:
-    return sympy.factor(sympy.cancel(expr))
+def _simplified(expr: sympy.Expr, factor: bool = True) -> sympy.Expr:
+    """One fraction, factored for reading; Dirac blocks stay expanded (factoring the determinant of
+    a block with complex chiral masses takes seconds)."""
+    return sympy.factor(sympy.cancel(expr)) if factor else sympy.cancel(expr)
 
 
 def block_propagators(form: QuadraticForm, block: Sequence[str], gauge: str) -> list[Propagator]:
@@ -142,10 +144,10 @@ def block_propagators(form: QuadraticForm, block: Sequence[str], gauge: str) -> 
         for r, row in enumerate(block):
             for k, column in enumerate(block):
                 # pslash (al PL + be PR) = (be PL + al PR) pslash
-                slash_l, slash_r = (_simplified(sympy.I * x[r, k]) for x in (beta, alpha))
-                one_l, one_r = (_simplified(sympy.I * x[r, k]) for x in (gamma, delta))
+                slash_l, slash_r = (_simplified(sympy.I * x[r, k], False) for x in (beta, alpha))
+                one_l, one_r = (_simplified(sympy.I * x[r, k], False) for x in (gamma, delta))
                 partner = None if r == k else column
-                if sympy.simplify(slash_l - slash_r) == 0 and sympy.simplify(one_l - one_r) == 0:
+                if sympy.cancel(slash_l - slash_r) == 0 and sympy.cancel(one_l - one_r) == 0:
                     out.append(Propagator(row, "dirac", slash_l, one_l, gauge, model, reps, partner=partner))
                 else:
                     out.append(Propagator(row, "dirac", zero, zero, gauge, model, reps, (slash_l, slash_r),

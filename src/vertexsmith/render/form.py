@@ -483,7 +483,10 @@ def render_form(rules: Rules) -> str:
         "representation (a<k><group> adjoint, i<k><group> fundamental); one spin line j1, j2, ... per "
         "fermion chain, chains ordered by their bar leg). Propagators: prop(field, p, then mu, nu for "
         "vectors or the spin line j for fermions, then two group indices per group), p along the particle "
-        "arrow. vtx and prop are non-commuting functions: write them in the order of the spin line.")
+        "arrow. vtx and prop are non-commuting functions: write them in the order of the spin line. Fields "
+        "that mix have a propagator matrix: prop(field, dag(partner) or bar(partner) or partner, p, ...) is "
+        "the entry that joins the leg field to the conjugated leg of partner, p running from the partner "
+        "end to the field end.")
     header += _comment_block(
         "Notation: g_(j,mu) gamma matrix on spin line j, g5_(j) gamma5, gi_(j) unit; PL = (gi_ - g5_)/2, "
         "PR = (gi_ + g5_)/2; sigma^{mu nu} = i_/2*(g_(j,mu,nu) - g_(j,nu,mu)); d_ metric and group deltas "
