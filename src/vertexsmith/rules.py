@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
 import sympy
 
+from .conventions import MIXING_TEXT
 from .errors import UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
 from .fermion_flow import FERMION_FLOW_TEXT
@@ -503,7 +504,8 @@ class Rules:
         gauge = {"xi": "R_xi gauge, symbolic xi per gauge boson", "feynman": "Feynman gauge (xi = 1)",
                  "unitary": "unitary gauge for massive vectors, Feynman gauge for massless ones"}[self.gauge]
         flow = f"; {FERMION_FLOW_TEXT}" if any(f.kind == "majorana" for f in self.model.fields.values()) else ""
-        return f"{CONVENTIONS_TEXT}{flow}; {covariant}; epsilon^{{0123}} = {c.eps0123:+d}; {gauge}"
+        mixing = f"; {MIXING_TEXT}" if any(p.partner is not None for p in self.propagators) else ""
+        return f"{CONVENTIONS_TEXT}{flow}{mixing}; {covariant}; epsilon^{{0123}} = {c.eps0123:+d}; {gauge}"
 
     def vertex(self, *labels: str) -> Vertex:
         """The vertex with these legs (in any order), returned with its legs in the order asked."""

@@ -26,6 +26,7 @@ from typing import TYPE_CHECKING, Any
 
 import sympy
 
+from ..conventions import MIXING_TEXT
 from ..fermion_flow import FERMION_FLOW_TEXT
 from ..symbolic import factor_text, to_latex
 
@@ -77,7 +78,8 @@ def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
         "sigma": "sigma^{mu nu} = (i/2)[gamma^mu, gamma^nu]",
         "projectors": "PL = (1 - gamma5)/2, PR = (1 + gamma5)/2",
         "gamma5": "gamma5 = i gamma^0 gamma^1 gamma^2 gamma^3, Dirac representation",
-        "propagator": "i x inverse of the quadratic kernel; momentum p along the particle arrow",
+        "propagator": "i x inverse of the quadratic kernel; momentum p along the particle arrow"
+                      + (f"; {MIXING_TEXT}" if any(p.partner is not None for p in rules.propagators) else ""),
         "group_generators": GENERATORS_TEXT,
         "gauge": rules.gauge,
         "gauge_description": GAUGE_TEXT.get(rules.gauge, rules.gauge),
