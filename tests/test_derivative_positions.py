@@ -82,3 +82,22 @@ def test_a_derivative_of_a_factor_without_fields_still_reports_its_place():
     with pytest.raises(vs.ModelMeaningError) as info:
         _rules("1/2 d[mu] s d[mu] s + c s s d[nu] d[nu] (v + m)")
     assert str(info.value).startswith("t.vsm:12:37: error: d[nu] has nothing to act on")
+
+
+def test_a_covariant_derivative_of_a_neutral_bracket_drops_its_constant_too():
+    # on a neutral field D[mu] = d[mu], so the constant summand vanishes as for d (common practice, no source)
+    gauged = HEAD.replace("fields\n", "gauge\n  u1 U(1) boson A strength F coupling c\nfields\n  vector A\n") \
+                 .replace("lagrangian\n", "lagrangian\n  -1/4 F[mu,nu] F[mu,nu]\n")
+    written = vs.load_model(text=gauged + "  1/2 D[mu] s D[mu] (v + s)\n", name="t.vsm").derive()
+    by_hand = vs.load_model(text=gauged + "  1/2 d[mu] s d[mu] s\n", name="t.vsm").derive()
+    assert _dump(written) == _dump(by_hand)
+
+
+def test_a_covariant_derivative_beside_charged_fields_refuses_a_constant_summand():
+    # D[mu] (v + phi) with phi charged: the gauge term of v is undefined, so no silent wrong term
+    text = ("theory t\nparameters\n  coupling c = 0.1\n  mass v = 2.0\ngauge\n  qed U(1) boson A strength F coupling c\n"
+            "fields\n  vector A\n  scalar phi complex charge qed 1\nlagrangian\n  -1/4 F[mu,nu] F[mu,nu]\n"
+            "  dag(D[mu] phi) D[mu] phi\n  c dag(phi) D[mu] (v + phi) A[mu]\n")
+    with pytest.raises(vs.ModelMeaningError) as info:
+        vs.load_model(text=text, name="t.vsm").derive()
+    assert str(info.value).startswith("t.vsm:13:14: error: D[mu] acts on a constant summand beside charged fields")

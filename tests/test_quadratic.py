@@ -250,3 +250,16 @@ def test_the_api_finds_entries_by_either_spelling():
     assert rules.propagator("H1", "H1") is rules.propagator("H1") and rules.propagator("H1").partner is None
     with pytest.raises(vs.UsageError, match="'B' and 'H1' do not mix"):
         rules.propagator("B", "H1")
+
+
+def test_compare_reads_an_entry_of_a_propagator_matrix():
+    # the hand entry (H1, dag(H2)) = i m12sq / det(p^2 - M^2), from the 2x2 inverse (common practice, no source);
+    # with m12sq where conj(m12sq) belongs (the other entry of the hermitian pair), it differs
+    from vertexsmith.compare import compare_rules
+
+    rules = vs.load_model(vs.example("two_doublets")).derive(gauge="feynman")
+    det = "((p^2 - m1^2) (p^2 - m2^2) - m12sq conj(m12sq))"
+    hand = f"gauge feynman\npropagator H1 dag(H2) : I m12sq / {det} delta[i1,i2]\n" \
+           f"propagator H2 dag(H1) : I m12sq / {det} delta[i1,i2]\n"
+    report = compare_rules(rules, hand, points=2)
+    assert [e.status for e in report.entries] == ["equal", "different"]

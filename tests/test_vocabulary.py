@@ -24,7 +24,7 @@ def test_every_factor_pastes_back_into_a_hand_rules_file(name: str) -> None:
     rules = vs.load_model(vs.example(name)).derive(gauge="feynman")
     lines = ["gauge feynman"]
     lines += [f"vertex {' '.join(v.labels)} : {v.text}" for v in rules.vertices]
-    lines += [f"propagator {p.field} : {p.text}" for p in rules.propagators]
+    lines += [f"propagator {p.label} : {p.text}" for p in rules.propagators]  # "H1 dag(H2)" for mixed entries
     report = compare_rules(rules, "\n".join(lines) + "\n", points=2)
     assert report.counts()["equal"] == len(rules.vertices) + len(rules.propagators)
 

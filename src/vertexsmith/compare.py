@@ -228,7 +228,7 @@ class _Checker:
             if label.startswith("dag(") and f.kind in ("dirac", "majorana", "ghost"):
                 raise ModelMeaningError(f"dag() of the fermionic field '{name}'", span,
                                         f"write bar({name})").with_source(self.hand.source)
-            if rule.kind == "propagator" and label != name:
+            if rule.kind == "propagator" and label != name and label == rule.legs[0]:
                 raise ModelMeaningError("a propagator is named by its field alone", span,
                                         f"write propagator {name} : ...").with_source(self.hand.source)
 
@@ -295,7 +295,7 @@ class _Checker:
 
     def propagator(self, rule: HandRule, gauge_rules: Rules) -> Comparison:
         try:
-            prop = gauge_rules.propagator(rule.legs[0])
+            prop = gauge_rules.propagator(*rule.legs[:2])  # two legs: an entry of a propagator matrix
         except UsageError:
             return Comparison("propagator", rule.legs, UNKNOWN, hand=rule.text, span=rule.span)
         ctx = HandContext(gauge_rules, rule, None, prop, self.hand.source)
@@ -351,7 +351,7 @@ class _Checker:
         entries: list[Comparison] = []
         for rule in self.hand.rules:
             self._label_check(rule)
-            key = (rule.kind, tuple(sorted(rule.legs)))
+            key = (rule.kind, tuple(sorted(rule.legs)) if rule.kind == "vertex" else rule.legs)  # D_AX != D_XA
             if key in seen:
                 raise ModelMeaningError(f"a second rule for the {rule.kind} {' '.join(rule.legs)}", rule.span,
                                         f"the first one is on line {seen[key].line}").with_source(self.hand.source)
@@ -360,11 +360,18 @@ class _Checker:
         covered = {tuple(sorted(e.labels)) for e in entries if e.kind == "vertex"}
         missing = [Comparison("vertex", v.labels, "not in hand file", derived=str(v.factor))
                    for v in self.rules.vertices if tuple(sorted(v.labels)) not in covered]
-        covered_p = {e.labels[0] for e in entries if e.kind == "propagator"}
-        missing += [Comparison("propagator", (p.field,), "not in hand file", derived=str(p.factor))
-                    for p in gauge_rules.propagators if p.field not in covered_p]
+        covered_p = {_propagator_key(gauge_rules, e.labels) for e in entries if e.kind == "propagator"}
+        missing += [Comparison("propagator", tuple(p.label.split()), "not in hand file", derived=str(p.factor))
+                    for p in gauge_rules.propagators if (p.field, p.partner) not in covered_p]
         return ComparisonReport(self.model.name, self.hand.source.name, gauge, tuple(entries), tuple(missing),
                                 self.points, _notes(entries, self.model))
+
+
+def _propagator_key(rules: Rules, labels: Sequence[str]) -> tuple[str, str | None]:
+    """(field, partner) of the propagator a hand rule names; partner None on the diagonal."""
+    names = [label[4:-1] if label.startswith(("bar(", "dag(")) else label for label in labels]
+    partner = names[1] if len(names) > 1 and names[1] != names[0] else None
+    return (names[0], partner)
 
 
 def _notes(entries: Sequence[Comparison], model: "Model") -> tuple[str, ...]:

@@ -109,6 +109,7 @@ class _Partial:
     coefficient: sympy.Expr
     atoms: tuple[Atom, ...]
     pending: tuple[m.LDerivative, ...] = ()
+    stranded: bool = False  # pending D[mu] left by a constant summand beside charged fields
 
 
 _CONJUGATE_DIRAC = {"gamma": ("gamma", 1), "sigma": ("sigma", 1), "gamma5": ("gamma5", -1),
@@ -244,16 +245,29 @@ class _Expander:
                 out.append(_Partial(coefficient, (boson, t_atom) + p.atoms[:k] + (moved,) + p.atoms[k + 1:]))
         return out
 
+    def _charged(self, atom: FieldAtom) -> bool:
+        f = self.model.fields[atom.field]
+        return bool(f.representations) or any(q != 0 for _, q in f.charges)
+
     # ------------------------------------------------------------------ expansion
     def product(self, left: list[_Partial], right: list[_Partial], span: Span) -> list[_Partial]:
         out: list[_Partial] = []
         # a factor that holds a field takes the derivatives before it whole: its field-free summands
         # (the m of (m + s)) are differentiated to zero rather than passed over
         holds_field = any(isinstance(a, FieldAtom) for rp in right for a in rp.atoms)
+        # D[mu] beside charged fields would owe a constant summand a gauge term it cannot have: left
+        # pending, it is reported (a vacuum value belongs inside a field shift, not beside the field)
+        charged = holds_field and any(self._charged(a) for rp in right for a in rp.atoms if isinstance(a, FieldAtom))
         for lp in left:
+            if lp.stranded:
+                op = next(op for op in lp.pending if op.covariant)
+                raise ModelMeaningError(f"D[{op.index.split('#')[0]}] acts on a constant summand beside charged fields, "
+                                        "and a constant carries no gauge term", op.span,
+                                        "write the vacuum value inside the field, or use d[mu] with the gauge terms "
+                                        "written out")
             for rp in right:
                 if lp.pending and not any(isinstance(a, FieldAtom) for a in rp.atoms):
-                    if holds_field and not rp.pending:
+                    if holds_field and not rp.pending and not (charged and any(op.covariant for op in lp.pending)):
                         continue  # d[mu] of a constant summand vanishes
                     # a derivative passes over constant factors (numbers, Dirac matrices) to the next field;
                     # d[mu] d[nu] phi: the second operator joins the first, both act on phi
@@ -261,7 +275,7 @@ class _Expander:
                         raise ModelMeaningError("a derivative acts on a constant factor", rp.pending[0].span,
                                                 "write the derivatives directly before the field")
                     out.append(_Partial(lp.coefficient * rp.coefficient, lp.atoms + rp.atoms,
-                                        lp.pending + rp.pending))
+                                        lp.pending + rp.pending, stranded=holds_field and not rp.pending))
                     continue
                 operands = [rp]
                 for op in reversed(lp.pending):

@@ -242,9 +242,12 @@ class HandNumeric:
         base = self.evaluate(node.base)
         exponent = self._plain(self.evaluate(node.exponent), node.exponent.span, "an exponent")
         if base.momentum:
-            if exponent != 2:
-                raise self.ctx.error("a momentum can only be squared", node.span, "write p^2 for p.p")
-            return self.scalar(base.array @ METRIC @ base.array)
+            # p^2 = p.p and its powers p^4, p^6 (denominators of propagator matrices)
+            if exponent.imag != 0 or not float(exponent.real).is_integer() or exponent.real <= 0 \
+                    or int(exponent.real) % 2:
+                raise self.ctx.error("a momentum can only be raised to an even power", node.span,
+                                     "write p^2 for p.p, p^4 for (p.p)^2")
+            return self.scalar((base.array @ METRIC @ base.array) ** (int(exponent.real) // 2))
         if base.matrix and not base.axes and exponent.imag == 0 and float(exponent.real).is_integer() \
                 and exponent.real >= 0:
             return replace(base, array=np.linalg.matrix_power(base.array, int(exponent.real)))

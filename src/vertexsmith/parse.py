@@ -620,8 +620,9 @@ def parse_hand_rules_text(text: str, name: str = "<hand rules>") -> sx.HandRules
             gauge, gauge_span = item[1], item[2]
             continue
         kind, legs, factor, span = item
-        if kind == "propagator" and len(legs) != 1:  # pragma: no cover - the grammar allows one leg only
-            raise ModelSyntaxError("a propagator names one field", span).with_source(source)
+        if kind == "propagator" and len(legs) > 2:  # pragma: no cover - the grammar allows two legs at most
+            raise ModelSyntaxError("a propagator names one field, or two for an entry of a propagator matrix",
+                                   span).with_source(source)
         rules.append(sx.HandRule(kind, tuple(label for label, _ in legs), factor, _rule_text(text, span, factor.span),
                                  span, tuple(s for _, s in legs)))
     return sx.HandRules(tuple(rules), gauge, source, gauge_span)
