@@ -16,7 +16,9 @@ import sympy
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Source, Span, did_you_mean
-from .groups import MAX_ALTERNATING_RANK, representation_name
+from .build_symmetry import (alternating_hint, alternating_tensor, build_symmetries, global_charge,
+                             summand_mismatch)
+from .groups import representation_name
 from .parse import MAX_NUMBER_DIGITS
 from .values import resolve_values_from
 from .spaces import (array_entries, check_index_spaces, check_matrix_property, field_index_counts,
@@ -100,7 +102,7 @@ class _Builder:
         for d in self.syntax.definitions:
             self._declare(d.name, "definition", d.span)
         self._build_parameters()
-        self._build_symmetries()
+        self.symmetries.update(build_symmetries(self.syntax.globals_))
         self._build_fields()
         self._build_groups()
         conventions = self._build_conventions()
@@ -113,42 +115,6 @@ class _Builder:
         return m.Model(self.syntax.theory.name, self.syntax.theory.description, self.parameters, self.fields,
                        self.groups, self.definitions, terms, conventions, self.source, self.symmetries,
                        self.spaces)
-
-    def _build_symmetries(self) -> None:
-        for s in self.syntax.globals_:
-            order = int(s.order) if s.order.isdigit() else 0
-            if s.option not in (None, "soft"):
-                raise ModelMeaningError(f"unknown word '{s.option}' after the global symmetry '{s.name}'",
-                                        s.option_span or s.span,
-                                        "write 'soft' to allow terms of mass dimension below 4 to break it, "
-                                        "or nothing")
-            soft = s.option == "soft"
-            if s.kind == "U" and order == 1:
-                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "U1", 1, s.span, soft)
-            elif s.kind == "Z" and 2 <= order <= 1000:
-                self.symmetries[s.name] = m.GlobalSymmetry(s.name, "Z", order, s.span, soft)
-            else:
-                raise ModelMeaningError(f"unknown global symmetry '{s.kind}({s.order})'", s.kind_span,
-                                        "write U(1) for a conserved charge or Z(N) (N from 2 to 1000) for a "
-                                        "discrete one, e.g. darkpar Z(2)")
-
-    def _global_charge(self, f: sx.FieldDecl, c: sx.ChargeAttr, is_complex: bool) -> tuple[str, Fraction] | None:
-        """A field's charge under a global symmetry: any rational for U(1), a whole number mod N for Z(N)."""
-        symmetry = self.symmetries[c.group]
-        value = Fraction(c.value)
-        if symmetry.kind == "Z":
-            if value.denominator != 1:
-                raise ModelMeaningError(f"a charge under {symmetry.label} '{symmetry.name}' is a whole number",
-                                        c.span, f"write e.g. charge {symmetry.name} 1 (odd under a Z(2))")
-            value = value % symmetry.order
-        if value == 0:
-            return None
-        self_conjugate = symmetry.kind == "Z" and (2 * value) % symmetry.order == 0
-        if not is_complex and not self_conjugate:
-            raise ModelMeaningError(f"the real field '{f.name}' cannot carry a {symmetry.label} charge "
-                                    f"{_show_fraction(value)}", c.span,
-                                    f"declare it complex: {f.kind} {f.name} complex ...")
-        return (c.group, value)
 
     def _attr_span(self, decl: sx.GaugeDecl, key: str) -> Span:
         return dict(decl.attribute_spans).get(key, decl.span)
@@ -272,7 +238,7 @@ class _Builder:
                     if any(g == c.group for g, _ in global_charges):
                         raise ModelMeaningError(f"'{f.name}' is given two charges under '{c.group}'", c.span,
                                                 "give one charge per symmetry")
-                    charge = self._global_charge(f, c, is_complex)
+                    charge = global_charge(self.symmetries[c.group], f, c, is_complex)
                     if charge is not None:
                         global_charges.append(charge)
                     continue
@@ -633,7 +599,7 @@ class _Builder:
         if builtin in _TENSORS:
             n = _TENSORS[builtin]
             if builtin == "eps" and len(idx) != n:
-                alternative = self._alternating_hint(node.name, len(idx))
+                alternative = alternating_hint(_ALIASES.get(node.name, node.name), len(idx), self.syntax.gauges)
                 if alternative:
                     raise ModelMeaningError(f"'{name}' is the Lorentz epsilon and takes 4 Lorentz indices, "
                                             f"not {len(idx)}", node.indices[0].span if idx else node.span,
@@ -651,7 +617,7 @@ class _Builder:
         if name in self.parameters:
             raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
                                     f"write {name} without brackets")
-        alternative = self._alternating_hint(name, len(idx))
+        alternative = alternating_hint(_ALIASES.get(name, name), len(idx), self.syntax.gauges)
         if alternative:
             raise ModelMeaningError(f"unknown name '{name}'", node.span, alternative)
         non_abelian = sorted(g.name for g in self.syntax.gauges if g.group == "SU")
@@ -661,21 +627,6 @@ class _Builder:
             list(self.strengths) + list(_DIRAC) + list(_TENSORS) + list(_DERIVATIVES) + group_tensors
         raise ModelMeaningError(f"unknown name '{name}'", node.span,
                                 did_you_mean(name, candidates, "declare it as a field or a parameter"))
-
-    def _alternating_hint(self, name: str, count: int) -> str:
-        """For an epsilon-like name with group indices: how to write the alternating tensor of the model's groups."""
-        base, _, suffix = _ALIASES.get(name, name).partition("_")
-        if not base.lower().startswith(("eps", "ε", "levi", "civita", "lc")):
-            return ""
-        ranks = {g.name: int(g.rank) for g in self.syntax.gauges if g.group == "SU" and g.rank.isdigit()}
-        matching = [g for g, n in sorted(ranks.items()) if g == suffix or (not suffix and n == count)]
-        if not matching:
-            return ""
-        group = matching[0]
-        written = "alt" if len(ranks) == 1 else f"alt_{group}"
-        example = ",".join("ijklmn"[:ranks[group]])
-        return (f"the invariant alternating tensor of SU({ranks[group]}) group '{group}' is written "
-                f"{written}[{example}] (eps is the Lorentz epsilon)")
 
     def _flavoured_field(self, node: sx.Symbol, f: m.Field, lorentz: int, groups: list[str],
                          flavours: list[str]) -> m.LField:
@@ -734,7 +685,7 @@ class _Builder:
             raise ModelMeaningError(f"'{base}' is ambiguous with several non-abelian groups", node.span,
                                     f"name the group: {base}_{non_abelian[0]}[...]")
         if base == "alt":
-            return self._alternating(node, group)
+            return alternating_tensor(node, group, self.groups_syntax[group].rank)
         counts = _GROUP_TENSORS[base]
         if len(node.indices) not in counts:
             examples = {"T": "T[a] (a matrix between fields) or T[a,i,j]", "f": "f[a,b,c]", "delta": "delta[i,j]"}
@@ -742,24 +693,6 @@ class _Builder:
             raise ModelMeaningError(f"'{node.name}' takes {' or '.join(map(str, counts))} indices, "
                                     f"not {len(node.indices)}", span, f"write {examples[base]}")
         return m.LGroup(base, group, tuple(i.name for i in node.indices), node.span)
-
-    def _alternating(self, node: sx.Symbol, group: str) -> m.LGroup:
-        """alt[i,j] of SU(2), alt[i,j,k] of SU(3): the invariant alternating tensor, N fundamental indices."""
-        n = int(self.groups_syntax[group].rank) if self.groups_syntax[group].rank.isdigit() else 0
-        if n > MAX_ALTERNATING_RANK:
-            raise ModelMeaningError(f"the alternating tensor of SU({n}) is too large to use here", node.span,
-                                    f"alt is available for SU(N) with N up to {MAX_ALTERNATING_RANK}")
-        names = [i.name for i in node.indices]
-        example = ",".join("ijklmn"[:n])
-        if len(names) != n:
-            span = node.indices[0].span if node.indices else node.span
-            raise ModelMeaningError(f"'{node.name}' of SU({n}) group '{group}' takes {n} fundamental indices, "
-                                    f"not {len(names)}", span, f"write {node.name}[{example}]")
-        repeated = next((i for i in node.indices if names.count(i.name) > 1), None)
-        if repeated is not None:
-            raise ModelMeaningError(f"'{node.name}' with the repeated index '{repeated.name}' is zero", repeated.span,
-                                    f"give each index its own name: {node.name}[{example}]")
-        return m.LGroup("alt", group, tuple(names), node.span)
 
     def _call(self, node: sx.Call) -> m.LNode:
         arg = node.argument
@@ -821,7 +754,7 @@ class _Builder:
             summands = [t for _, t in node.terms if not isinstance(t, sx.HermitianConjugate)]
             frees = [self._free_indices(t) for t in summands]
             if len({frozenset(f) for f in frees}) > 1:
-                self._summand_mismatch(summands, frees)
+                summand_mismatch(summands, frees, [self._implies_group_index(t) for t in summands])
             return frees[0] if frees else Counter()
         if isinstance(node, sx.Product):
             seen: Counter[str] = Counter()
@@ -838,30 +771,6 @@ class _Builder:
         if isinstance(node, sx.Power):
             return self._free_indices(node.base)
         return Counter()
-
-    def _summand_mismatch(self, summands: list[sx.Expr], frees: list[Counter[str]]) -> None:
-        """Point at the summand whose free indices differ from those of most others, and say how."""
-        sets = [frozenset(f) for f in frees]
-        usual = max(sets, key=lambda x: (sets.count(x), -sets.index(x)))
-        odd = next(k for k, x in enumerate(sets) if x != usual)
-
-        def describe(names: frozenset[str]) -> str:
-            if not names:
-                return "no free index"
-            quoted = ", ".join(f"'{n}'" for n in sorted(names))
-            return f"the free ind{'ex' if len(names) == 1 else 'ices'} {quoted}"
-
-        others = "the other summand" if len(summands) == 2 else "the other summands"
-        hint = "every summand of a sum needs the same free indices"
-        implied = [k for k, t in enumerate(summands) if self._implies_group_index(t)]
-        explicit = [k for k, t in enumerate(summands) if k not in implied and sets[k]]
-        if implied and explicit:
-            hint = ("a group index left implied (dag(phi) phi) is contracted inside its summand and is not free: "
-                    "write the group indices out in every summand, or in none")
-        mine = describe(sets[odd])
-        if odd in implied and not sets[odd]:
-            mine = "an implied group index (contracted inside it), so no free index"
-        raise ModelMeaningError(f"this summand has {mine}, {others} {describe(usual)}", _span_of(summands[odd]), hint)
 
     def _implies_group_index(self, node: sx.Expr) -> bool:
         """Whether a field in an SU(N) representation is written without its group indices."""
@@ -880,10 +789,6 @@ class _Builder:
                     if i.name == index:
                         return i.span
         return None
-
-
-def _show_fraction(value: Fraction) -> str:
-    return f"{'+' if value > 0 else ''}{value}"
 
 
 def _index_example(representation: str) -> str:
