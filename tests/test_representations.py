@@ -140,3 +140,4 @@ def test_names_by_dimension_depend_on_the_group(rank: int, name: str, meaning: s
         vs.load_model(text=text, name="t.vsm")
     assert (info.value.span.line, info.value.span.column) == (8, 20)
     assert info.value.message == f"unknown representation '{name}' of SU({rank})"
+
