@@ -21,8 +21,8 @@ from .build_symmetry import (alternating_hint, alternating_tensor, build_symmetr
 from .groups import representation_name
 from .parse import MAX_NUMBER_DIGITS
 from .values import resolve_values_from
-from .spaces import (array_entries, check_index_spaces, check_matrix_property, field_index_counts,
-                     space_size)
+from .spaces import (array_component, array_entries, array_parameter, check_index_spaces, check_matrix_property,
+                     flavoured_field, space_size)
 
 # built-in objects of the Lagrangian and the number of indices each takes
 _DIRAC = {"gamma": 1, "gamma5": 0, "PL": 0, "PR": 0, "sigma": 2}
@@ -137,7 +137,7 @@ class _Builder:
                     resolve(used)
             if decl.spaces:
                 resolving.pop()
-                self.parameters[name] = self._array_parameter(decl)
+                self.parameters[name] = array_parameter(decl, self.spaces, self._scalar)
                 return
             if isinstance(decl.value, sx.Array):
                 raise ModelMeaningError(f"'{name}' has a braced list of values but no index spaces", decl.value.span,
@@ -166,34 +166,6 @@ class _Builder:
                 continue
             self.parameters[name] = m.Parameter(p.name, p.roles, p.is_complex, p.definition,
                                                 values.get(p.symbol), p.description, p.span)
-
-    def _array_parameter(self, decl: sx.ParamDecl) -> m.Parameter:
-        """A vector or matrix parameter: its spaces, and its entries (numbers or formulas) if given."""
-        for index in decl.spaces:
-            if index.name not in self.spaces:
-                raise ModelMeaningError(f"unknown index space '{index.name}'", index.span,
-                                        did_you_mean(index.name, self.spaces,
-                                                     f"declare it: spaces\n  {index.name} 3"))
-        spaces = tuple(i.name for i in decl.spaces)
-        if decl.matrix and (len(spaces) != 2 or spaces[0] != spaces[1]):
-            raise ModelMeaningError(f"a {decl.matrix} parameter is a square matrix over one index space",
-                                    decl.spaces[0].span, f"write {decl.name}[{spaces[0]},{spaces[0]}]")
-        if decl.matrix == "hermitian" and decl.reality != "complex":
-            # a real hermitian matrix is symmetric; allowed, nothing more to say
-            pass
-        entries = None
-        shape = tuple(self.spaces[name].size for name in spaces)
-        if decl.value is not None:
-            items = array_entries(decl.name, decl.value, shape)
-            entries = tuple(self._scalar(item) for item in items)
-            if decl.reality == "real":
-                for item, value in zip(items, entries):
-                    if _certainly_complex(value):
-                        raise ModelMeaningError(f"parameter '{decl.name}' is declared real but this entry is "
-                                                "complex", _span_of(item),
-                                                f"declare it as: complex {decl.name}[...] = ...")
-        return m.Parameter(decl.name, decl.roles, decl.reality == "complex" or decl.matrix == "unitary", None, None,
-                           decl.description, decl.span, spaces, entries, decl.matrix, shape)
 
     def _array_value_spans(self, name: str) -> tuple[Span, ...]:
         decl = next(p for p in self.syntax.parameters if p.name == name)
@@ -548,7 +520,7 @@ class _Builder:
             groups = [g for g, r in f.representations if r != m.FLAVOUR]
             flavours = [g for g, r in f.representations if r == m.FLAVOUR]
             if flavours:
-                return self._flavoured_field(node, f, lorentz, groups, flavours)
+                return flavoured_field(node, f, lorentz, groups, flavours)
             if len(idx) not in (lorentz, lorentz + len(groups)):
                 example = ", ".join((["mu"] if lorentz else []) + [_index_example(r) for _, r in f.representations])
                 if not groups:
@@ -613,7 +585,7 @@ class _Builder:
         if builtin in _DERIVATIVES:
             self._check_index_count(node, 1, f"the derivative '{name}'", f"{name}[mu]")
         if name in self.parameters and self.parameters[name].is_array:
-            return self._array_component(node, False)
+            return array_component(self.parameters[name], node, False)
         if name in self.parameters:
             raise ModelMeaningError(f"parameter '{name}' takes no index", node.indices[0].span,
                                     f"write {name} without brackets")
@@ -628,42 +600,6 @@ class _Builder:
         raise ModelMeaningError(f"unknown name '{name}'", node.span,
                                 did_you_mean(name, candidates, "declare it as a field or a parameter"))
 
-    def _flavoured_field(self, node: sx.Symbol, f: m.Field, lorentz: int, groups: list[str],
-                         flavours: list[str]) -> m.LField:
-        """A field over index spaces: Lorentz, then group indices (all or none), then every space index."""
-        idx = tuple(i.name for i in node.indices)
-        counts = field_index_counts(lorentz, len(groups), len(flavours))
-        if len(idx) not in counts:
-            example = ", ".join((["mu"] if lorentz else []) + [_index_example(r) for g, r in f.representations
-                                                               if r != m.FLAVOUR] + ["n"] * len(flavours))
-            raise ModelMeaningError(f"'{f.name}' takes {lorentz} Lorentz, {len(groups)} group and {len(flavours)} "
-                                    f"{'/'.join(flavours)} ind{'ex' if len(flavours) == 1 else 'ices'}, not "
-                                    f"{len(idx)}", node.indices[0].span if node.indices else node.span,
-                                    f"write {f.name}[{example}]" + (" (group indices may be left implied)"
-                                                                    if groups else ""))
-        written_groups = len(idx) - lorentz - len(flavours)
-        group_indices = tuple((g, idx[lorentz + k] if written_groups else None) for k, g in enumerate(groups))
-        for g, i in group_indices:
-            if i is None and f.representation(g) == "adjoint":
-                raise ModelMeaningError(f"the adjoint index of '{f.name}' must be written", node.span,
-                                        f"write {f.name}[{', '.join((['mu'] if lorentz else []) + ['a', 'n'])}]")
-        space_indices = tuple(zip(flavours, idx[len(idx) - len(flavours):]))
-        return m.LField(f.name, False, idx[0] if lorentz else None, node.span, group_indices + space_indices)
-
-    def _array_component(self, node: sx.Symbol, conjugate: bool) -> m.LParam:
-        p = self.parameters[node.name]
-        if not p.is_array:
-            raise ModelMeaningError("conj() of a field-free factor belongs to the parameters", node.span,
-                                    f"write conj({node.name}) inside a product, e.g. conj({node.name}) phi")
-        if len(node.indices) != len(p.spaces):
-            example = ", ".join("ijkl"[:len(p.spaces)])
-            raise ModelMeaningError(f"'{p.name}' takes {len(p.spaces)} ind{'ex' if len(p.spaces) == 1 else 'ices'} "
-                                    f"({', '.join(p.spaces)}), not {len(node.indices)}",
-                                    node.indices[0].span if node.indices else node.span,
-                                    f"write {p.name}[{example}]")
-        if conjugate and not p.is_complex:
-            conjugate = False  # a real parameter is its own conjugate
-        return m.LParam(p.name, tuple(i.name for i in node.indices), conjugate, node.span)
 
     def _group_tensor(self, node: sx.Symbol) -> m.LGroup | None:
         """T[a], T[a,i,j], f[a,b,c], delta[i,j]; with several non-abelian groups T_color[a] etc."""
@@ -727,7 +663,7 @@ class _Builder:
                                             "write the conjugate out with bar(), or use '+ h.c.'")
             return m.LDagger(self._node(arg), node.span)
         if node.function == "conj" and isinstance(arg, sx.Symbol) and arg.name in self.parameters:
-            return self._array_component(arg, True)
+            return array_component(self.parameters[arg.name], arg, True)
         if node.function == "conj":
             raise ModelMeaningError("conj() takes a complex parameter, not a field", node.span,
                                     "for a field write dag(...) or bar(...)")

@@ -10,13 +10,13 @@ in one space only. All errors are positioned at the text that is wrong.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, Callable
 
 import sympy
 
 from . import model as m
 from . import syntax as sx
-from .errors import ModelMeaningError, Span
+from .errors import ModelMeaningError, Span, did_you_mean
 from .groups import dimension
 
 if TYPE_CHECKING:
@@ -44,6 +44,66 @@ def index_dimension(model: m.Model, name: str, representation: str) -> int:
 def field_index_counts(lorentz: int, groups: int, spaces: int) -> tuple[int, ...]:
     """How many indices a field over index spaces may take: group indices all or none, space indices always."""
     return (lorentz + spaces, lorentz + groups + spaces) if groups else (lorentz + spaces,)
+
+
+def array_parameter(decl: sx.ParamDecl, spaces: Mapping[str, m.IndexSpace],
+                    scalar: Callable[[sx.Expr], sympy.Expr]) -> m.Parameter:
+    """A vector or matrix parameter: its spaces, and its entries (numbers or formulas, read by `scalar`)."""
+    for index in decl.spaces:
+        if index.name not in spaces:
+            raise ModelMeaningError(f"unknown index space '{index.name}'", index.span,
+                                    did_you_mean(index.name, spaces, f"declare it: spaces\n  {index.name} 3"))
+    names = tuple(i.name for i in decl.spaces)
+    if decl.matrix and (len(names) != 2 or names[0] != names[1]):
+        raise ModelMeaningError(f"a {decl.matrix} parameter is a square matrix over one index space",
+                                decl.spaces[0].span, f"write {decl.name}[{names[0]},{names[0]}]")
+    entries = None
+    shape = tuple(spaces[name].size for name in names)
+    if decl.value is not None:
+        items = array_entries(decl.name, decl.value, shape)
+        entries = tuple(scalar(item) for item in items)
+        if decl.reality == "real":
+            for item, value in zip(items, entries):
+                if value.free_symbols == set() and value.is_real is False:
+                    raise ModelMeaningError(f"parameter '{decl.name}' is declared real but this entry is complex",
+                                            _span(item), f"declare it as: complex {decl.name}[...] = ...")
+    return m.Parameter(decl.name, decl.roles, decl.reality == "complex" or decl.matrix == "unitary", None, None,
+                       decl.description, decl.span, names, entries, decl.matrix, shape)
+
+
+def flavoured_field(node: sx.Symbol, f: m.Field, lorentz: int, groups: list[str], flavours: list[str]) -> m.LField:
+    """A field over index spaces: Lorentz, then group indices (all or none), then every space index."""
+    idx = tuple(i.name for i in node.indices)
+    if len(idx) not in field_index_counts(lorentz, len(groups), len(flavours)):
+        example = ", ".join((["mu"] if lorentz else []) + ["a" if r == "adjoint" else "i" for g, r in f.representations
+                                                           if r != m.FLAVOUR] + ["n"] * len(flavours))
+        raise ModelMeaningError(f"'{f.name}' takes {lorentz} Lorentz, {len(groups)} group and {len(flavours)} "
+                                f"{'/'.join(flavours)} ind{'ex' if len(flavours) == 1 else 'ices'}, not "
+                                f"{len(idx)}", node.indices[0].span if node.indices else node.span,
+                                f"write {f.name}[{example}]" + (" (group indices may be left implied)"
+                                                                if groups else ""))
+    written_groups = len(idx) - lorentz - len(flavours)
+    group_indices = tuple((g, idx[lorentz + k] if written_groups else None) for k, g in enumerate(groups))
+    for g, i in group_indices:
+        if i is None and f.representation(g) == "adjoint":
+            raise ModelMeaningError(f"the adjoint index of '{f.name}' must be written", node.span,
+                                    f"write {f.name}[{', '.join((['mu'] if lorentz else []) + ['a', 'n'])}]")
+    space_indices = tuple(zip(flavours, idx[len(idx) - len(flavours):]))
+    return m.LField(f.name, False, idx[0] if lorentz else None, node.span, group_indices + space_indices)
+
+
+def array_component(p: m.Parameter, node: sx.Symbol, conjugate: bool) -> m.LParam:
+    """Y[i,j] (or conj(Y[i,j])) in the Lagrangian: one index per space of the parameter."""
+    if not p.is_array:
+        raise ModelMeaningError("conj() of a field-free factor belongs to the parameters", node.span,
+                                f"write conj({node.name}) inside a product, e.g. conj({node.name}) phi")
+    if len(node.indices) != len(p.spaces):
+        example = ", ".join("ijkl"[:len(p.spaces)])
+        raise ModelMeaningError(f"'{p.name}' takes {len(p.spaces)} ind{'ex' if len(p.spaces) == 1 else 'ices'} "
+                                f"({', '.join(p.spaces)}), not {len(node.indices)}",
+                                node.indices[0].span if node.indices else node.span, f"write {p.name}[{example}]")
+    # a real parameter is its own conjugate
+    return m.LParam(p.name, tuple(i.name for i in node.indices), conjugate and p.is_complex, node.span)
 
 
 def array_entries(name: str, value: sx.Expr | sx.Array, shape: tuple[int, ...]) -> list[sx.Expr]:
