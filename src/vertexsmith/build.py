@@ -600,7 +600,6 @@ class _Builder:
         raise ModelMeaningError(f"unknown name '{name}'", node.span,
                                 did_you_mean(name, candidates, "declare it as a field or a parameter"))
 
-
     def _group_tensor(self, node: sx.Symbol) -> m.LGroup | None:
         """T[a], T[a,i,j], f[a,b,c], delta[i,j]; with several non-abelian groups T_color[a] etc."""
         base, _, suffix = node.name.partition("_")
