@@ -389,6 +389,72 @@ def bench_invariance(repeats: int) -> None:
     print()
 
 
+_DERIVE_AND_CHECK = """
+import sys, time
+import vertexsmith as vs
+from vertexsmith.check import check_model
+model = vs.load_model(vs.example(sys.argv[1]))
+t = time.process_time(); model.derive(); d = time.process_time() - t
+t = time.process_time(); check_model(model); c = time.process_time() - t
+print(d, c)
+"""
+
+
+def _derive_and_check_cold(name: str, source: Path | None, repeats: int) -> tuple[float, float] | None:
+    """Median CPU seconds of derive() and check_model() in fresh processes (source: another src/ tree)."""
+    env = dict(os.environ)
+    if source is not None:
+        env["PYTHONPATH"] = str(source)
+    runs = []
+    for _ in range(repeats):
+        done = subprocess.run([sys.executable, "-c", _DERIVE_AND_CHECK, name], capture_output=True, text=True,
+                              env=env, cwd=str(source.parent) if source is not None else None)
+        if done.returncode != 0:
+            return None
+        runs.append(tuple(float(x) for x in done.stdout.split()))
+    return statistics.median(r[0] for r in runs), statistics.median(r[1] for r in runs)
+
+
+def bench_quadratic(repeats: int, baseline: Path | None) -> None:
+    print("(i) the quadratic form K_ij(p) and its inversion, every shipped model, in process, median of", repeats)
+    from vertexsmith._resources import shipped_models
+    from vertexsmith.check import check_model
+    from vertexsmith.derive import gauge_fixing_monomials, ghost_monomials, has_ghosts
+    from vertexsmith.propagate import propagators_from
+    from vertexsmith.quadratic import quadratic_form
+
+    rows = []
+    for path in shipped_models():
+        model = vs.load_model(path)
+        written = [mono for mono in model.monomials() if len(mono.fields) == 2]
+        fixed = written + [mono for mono in ghost_monomials(model, "xi") if len(mono.fields) == 2] + [
+            mono for g in model.groups.values() for mono in gauge_fixing_monomials(model, g, "xi")]
+        skip = frozenset(g.ghost for g in model.groups.values() if not has_ghosts(model, g, "xi"))
+        derive = _median_time(model.derive, repeats)
+        check = _median_time(lambda: check_model(model), repeats)
+        in_derive = _median_time(lambda: propagators_from(quadratic_form(model, fixed), "xi", skip), repeats)
+        in_check = _median_time(lambda: quadratic_form(model, written), repeats) + in_derive  # check derives too
+        share = (in_derive + in_check) / (derive + check)
+        rows.append((path.stem, f"{derive:.3f}", f"{check:.3f}", f"{in_derive * 1e3:.1f}", f"{in_check * 1e3:.1f}",
+                     f"{share:.1%}"))
+    print(_table(("model", "derive s", "check s", "K + i K^-1 in derive ms", "K in check ms", "share"), rows))
+    print("  share: the quadratic stage's part of derive + check (it replaces the per-field kernels read before)")
+    if baseline is not None:
+        print(f"  before/after, fresh processes, CPU seconds of derive + check; before = {baseline}")
+        compared = []
+        for path in shipped_models():
+            before = _derive_and_check_cold(path.stem, baseline, repeats)
+            after = _derive_and_check_cold(path.stem, None, repeats)
+            if before is None or after is None:
+                compared.append((path.stem, "-", "-", "-", "not derivable before" if before is None else "failed"))
+                continue
+            ratio = sum(after) / sum(before)
+            compared.append((path.stem, f"{sum(before):.3f}", f"{sum(after):.3f}", f"{ratio - 1:+.1%}",
+                             "ok" if ratio <= 1.10 else "SLOW"))
+        print(_table(("model", "before s", "after s", "change", "<= +10 %"), compared))
+    print()
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--profile", action="store_true", help="profile load_model() and derive() on the largest generated model")
@@ -397,11 +463,16 @@ def main(argv: list[str] | None = None) -> int:
                         help="Lagrangian lines of the generated models (default 50 200 1000)")
     parser.add_argument("--points", type=int, default=100_000,
                         help="phase-space points for the exported-module benchmark (default 100000)")
-    parser.add_argument("--only", choices=("invariance",), help="run one section only")
+    parser.add_argument("--only", choices=("invariance", "quadratic"), help="run one section only")
+    parser.add_argument("--baseline", type=Path, help="the src/ folder of an earlier checkout, to compare derive + "
+                        "check before and after (section i), e.g. from: git archive REV | tar -x -C DIR")
     args = parser.parse_args(argv)
     print_machine()
     if args.only == "invariance":
         bench_invariance(args.repeats)
+        return 0
+    if args.only == "quadratic":
+        bench_quadratic(args.repeats, args.baseline)
         return 0
     bench_cli(args.repeats)
     bench_generated(tuple(args.sizes), args.profile)
@@ -411,6 +482,7 @@ def main(argv: list[str] | None = None) -> int:
     bench_compare(args.repeats)
     bench_evaluate()
     bench_invariance(args.repeats)
+    bench_quadratic(args.repeats, args.baseline)
     return 0
 
 
