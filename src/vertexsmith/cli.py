@@ -193,7 +193,9 @@ def command_check(args: argparse.Namespace) -> int:
         report(err)
         emit(f"{err.source.name if err.source else args.model}: 1 error, 0 warnings, 0 notes\n", sys.stdout)
         return EXIT_MODEL
-    diagnostics = list(checker.check_model(model))
+    from .pipeline import prepare_model
+
+    diagnostics = list(checker.check_model(prepare_model(model)))  # the model stages run first, as in derive
     counts = {"error": 0, "warning": 0, "note": 0}
     for diagnostic in diagnostics:
         severity = str(getattr(diagnostic, "severity", "error"))
