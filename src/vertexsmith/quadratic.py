@@ -185,14 +185,15 @@ def quadratic_form(model: m.Model, monomials: Iterable[Monomial]) -> QuadraticFo
             if not entry:
                 continue
             pair = (legs[0][0], legs[1][0])
+            unordered = (min(pair), max(pair))
             lines = {mono.origin.line: mono.origin for mono in monos}
             if problem:
-                problems.setdefault(tuple(sorted(pair)), problem)  # type: ignore[arg-type]
+                problems.setdefault(unordered, problem)
             else:
                 entries[pair] = entry
                 origins[pair] = tuple(sorted(lines.values(), key=lambda s: (s.line, s.column)))
             if pair[0] != pair[1] or problem:
-                joined[tuple(sorted(pair))].update(lines)  # type: ignore[index]
+                joined[unordered].update(lines)
     mixings = []
     for pair in sorted(joined):
         spans = tuple(span for _, span in sorted(joined[pair].items()))
