@@ -141,3 +141,16 @@ def test_names_by_dimension_depend_on_the_group(rank: int, name: str, meaning: s
     assert (info.value.span.line, info.value.span.column) == (8, 20)
     assert info.value.message == f"unknown representation '{name}' of SU({rank})"
 
+
+
+def test_a_gauge_boson_declared_in_its_own_adjoint_is_refused_at_the_declaration() -> None:
+    # the boson's adjoint comes with the gauge line; declared again it once doubled the group delta of the
+    # propagator, and `check` crashed on it
+    text = ("theory t\nparameters\n  coupling gs = 1.0\ngauge\n  color SU(3) boson G strength GS coupling gs\n"
+            "fields\n  vector G in color adjoint\nlagrangian\n  -1/4 GS[mu,nu,a] GS[mu,nu,a]\n")
+    with pytest.raises(vs.ModelMeaningError) as info:
+        vs.load_model(text=text, name="t.vsm")
+    assert (info.value.span.line, info.value.span.column) == (7, 12)
+    assert info.value.message == ("'G' is the gauge boson of 'color': its adjoint representation comes with the "
+                                  "gauge declaration")
+    assert info.value.hint == "remove 'in color adjoint'"

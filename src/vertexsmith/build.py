@@ -254,6 +254,10 @@ class _Builder:
                 if any(g == r.group for g, _ in representations):
                     raise ModelMeaningError(f"'{f.name}' is given two representations of '{r.group}'", r.span,
                                             "give one representation per group")
+                if self.groups_syntax[r.group].boson == f.name:
+                    raise ModelMeaningError(f"'{f.name}' is the gauge boson of '{r.group}': its adjoint representation "
+                                            "comes with the gauge declaration", r.span,
+                                            f"remove 'in {r.group} {r.representation}'")
                 representations.append((r.group, rep))
             for g in self.syntax.gauges:
                 if g.boson == f.name and g.group == "SU":
