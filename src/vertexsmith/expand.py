@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
-import math
 from dataclasses import dataclass, replace
 from typing import Callable, Union
 
@@ -20,7 +19,7 @@ from . import model as m
 from .errors import DerivationError, ModelMeaningError, Span
 from .symbolic import is_plain_product  # noqa: F401 - derive reads it from here too
 from .fermion_flow import reversed_chain
-from .structures import permutation_sign
+from .alternating import contract_alternating
 
 MAX_MONOMIALS_PER_TERM = 20_000
 MAX_MONOMIALS = 200_000
@@ -471,42 +470,6 @@ def _implied_group_indices(model: m.Model, atoms: tuple[Atom, ...], expander: "_
     return tuple(result)
 
 
-def _contract_alternating(atoms: tuple[Atom, ...]) -> list[tuple[int, tuple[Atom, ...]]]:
-    """Products of two alternating tensors of one group that share indices, written as deltas.
-
-    With the k shared indices S moved to the front of both (each move signed),
-    eps_{S A} eps_{S B} = k! sum over permutations s of sgn(s) prod_m delta_{A_m B_s(m)}
-    (common practice), so that (eps H*)^dagger (eps H*) and H^dagger H meet in one form.
-    Returns (integer factor, atoms) pairs; atoms without such a pair come back unchanged.
-    """
-    alts = [k for k, a in enumerate(atoms) if isinstance(a, GroupAtom) and a.kind == "alt"]
-    for x, first in enumerate(alts):
-        for second in alts[x + 1:]:
-            a, b = atoms[first], atoms[second]
-            assert isinstance(a, GroupAtom) and isinstance(b, GroupAtom)
-            shared = [i for i in a.indices if i in b.indices]
-            if a.group != b.group or not shared:
-                continue
-            rest_a = [i for i in a.indices if i not in shared]
-            rest_b = [i for i in b.indices if i not in shared]
-            sign = (permutation_sign([(shared + rest_a).index(i) for i in a.indices])
-                    * permutation_sign([(shared + rest_b).index(i) for i in b.indices]))
-            sign *= math.factorial(len(shared))
-            out: list[tuple[int, tuple[Atom, ...]]] = []
-            for perm in itertools.permutations(range(len(rest_b))):
-                deltas = tuple(GroupAtom("delta", a.group, (rest_a[m], rest_b[perm[m]]), a.span)
-                               for m in range(len(rest_a)))
-                replaced = atoms[:first] + deltas + atoms[first + 1:second] + atoms[second + 1:]
-                for factor, reduced in _contract_alternating(replaced):
-                    out.append((sign * permutation_sign(list(perm)) * factor, reduced))
-                if len(out) > MAX_MONOMIALS_PER_TERM:
-                    raise DerivationError(f"contracting the alt tensors of this term gives more than "
-                                          f"{MAX_MONOMIALS_PER_TERM} monomials", a.span,
-                                          "share more indices between the alt tensors, or split the term")
-            return out
-    return [(1, atoms)]
-
-
 def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = None) -> list[Monomial]:
     """One Lagrangian line as monomials, like terms combined, zeros dropped."""
     expander = expander or _Expander(model)
@@ -521,7 +484,7 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
             raise DerivationError(f"a monomial of this term has more than {MAX_FIELDS_PER_MONOMIAL} fields",
                                   term.span, "vertices with at most 12 legs are supported")
         atoms = _implied_group_indices(model, p.atoms, expander, term.span) if model.has_non_abelian else p.atoms
-        for factor, reduced in _contract_alternating(atoms):
+        for factor, reduced in contract_alternating(atoms, MAX_MONOMIALS_PER_TERM):
             key = _canonical_indices(reduced)
             combined[key] = combined.get(key, sympy.Integer(0)) + p.coefficient * factor
     out = []
