@@ -148,11 +148,24 @@ def _vertex_lines(vertex: "Vertex") -> list[str]:
             + [f"  &\\qquad\\quad {segment}" for segment in segments[1:]])
 
 
-def _propagator_line(p: "Propagator") -> str:
+# a vector propagator longer than this (in LaTeX source characters) breaks after g^{mu nu}
+_PROPAGATOR_BREAK = 120
+_BRACKET_OPEN, _BRACKET_CLOSE = r"\left[g^{\mu \nu}", r"\right]"
+
+
+def _propagator_lines(p: "Propagator") -> list[str]:
+    """D(p) = ..., on two lines when a long vector propagator would run past the page (a mixed block's)."""
     indices = [_index(i) for i in p.indices if not i.startswith("s")]
     upper = f"^{{{' '.join(indices)}}}" if indices else ""
     name = _name(p.field) if p.partner is None else f"{_name(p.field)} {_name(p.partner)}"
-    return f"  D_{{{name}}}{upper}(p) &= {_tex(p.latex)}"
+    tex = _tex(p.latex)
+    head = f"  D_{{{name}}}{upper}(p) &= "
+    if len(tex) > _PROPAGATOR_BREAK and tex.count(_BRACKET_OPEN) == 1 and tex.endswith(_BRACKET_CLOSE):
+        # \left[ ... \right] cannot span two lines of an align: the outer bracket becomes \Big[ ... \Big]
+        common, rest = tex.split(_BRACKET_OPEN)
+        rest = rest[: -len(_BRACKET_CLOSE)].strip()
+        return [f"{head}{common}\\Big[g^{{\\mu \\nu}}", f"  &\\qquad {rest} \\Big]"]
+    return [head + tex]
 
 
 def _align(blocks: list[list[str]]) -> list[str]:
@@ -174,7 +187,7 @@ def _rules_body(rules: "Rules") -> list[str]:
     else:
         out.append("% no vertices: the model has no interaction terms")
     out.append("% propagators: momentum p along the particle arrow")
-    out += _align([[_propagator_line(p)] for p in rules.propagators])
+    out += _align([_propagator_lines(p) for p in rules.propagators])
     return out
 
 
