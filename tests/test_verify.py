@@ -117,3 +117,26 @@ def test_a_wrong_contact_term_makes_massive_vector_production_grow():
                      if c.identity == "high-energy growth"]
         assert growth.verdict == verdict
         assert "largest single diagram ~ s^2.00" in growth.detail
+
+
+RESONANCE = """\
+theory pole "a massless pair and a scalar resonance (invented numbers)"
+parameters
+  coupling y = 0.7
+  mass ms = 10.0
+fields
+  dirac f
+  scalar s mass ms
+lagrangian
+  bar(f) I gamma[mu] d[mu] f
+  1/2 d[mu] s d[mu] s - 1/2 ms^2 s^2
+  - y s bar(f) f
+"""
+
+
+def test_test_points_stay_off_an_s_channel_pole() -> None:
+    # massless f fbar -> f fbar through s: at sqrt(s) = ms the s-channel propagator is infinite, and the test
+    # points once sat exactly there (the energy was the largest mass), so crossing came out nan
+    report = verify_model(vertexsmith.load_model(text=RESONANCE, name="pole.vsm"))
+    assert not report.failed
+    assert all(check.deviation == check.deviation for check in report.checks)  # no nan

@@ -62,11 +62,19 @@ class Report:
         return tuple(c for c in self.checks if c.verdict == "FAIL")
 
 
-def _energy(masses_in: list[float], masses_out: list[float], scale: float) -> float:
+def _energy(masses_in: list[float], masses_out: list[float], scale: float, poles: list[float]) -> float:
+    """The centre-of-mass energy of the test points: above threshold, at the model's scale, off every pole.
+
+    With massless external states the first guess is the largest mass itself, which sits exactly on the
+    s-channel pole of that particle; so the energy moves up until no mass of the model lies within 5 %.
+    """
     if len(masses_in) == 1:
         return masses_in[0]
     threshold = max(sum(masses_in), sum(masses_out))
-    return threshold * 1.7 + scale
+    energy = threshold * 1.7 + scale * 1.37
+    while any(abs(energy - m) < 0.05 * m for m in poles):
+        energy *= 1.13
+    return energy
 
 
 def _relative(a: np.ndarray, b: np.ndarray) -> float:
@@ -79,15 +87,16 @@ class _Verifier:
     def __init__(self, rules: "Rules", unitary: "Rules | None", points: int, tolerance: float) -> None:
         self.rules, self.unitary, self.points, self.tolerance = rules, unitary, points, tolerance
         self.tables: dict = {}  # numeric vertices shared by every amplitude of these rules
-        self.scale = max([1.0] + [abs(complex(v)) for k, v in rules.model.parameter_values({}).items()
-                                  if not getattr(v, "ndim", 0)
-                                  and any(p.symbol == k and "mass" in p.roles for p in rules.model.parameters.values())])
+        self.masses = [abs(complex(v)) for k, v in rules.model.parameter_values({}).items()
+                       if not getattr(v, "ndim", 0)
+                       and any(p.symbol == k and "mass" in p.roles for p in rules.model.parameters.values())]
+        self.scale = max([1.0] + self.masses)
 
     def point(self, amp: Amplitude, seed: int, energy_factor: float = 1.0) -> np.ndarray:
         masses = amp.masses()
         n_in = len(amp.process.incoming)
         rng = np.random.default_rng(seed)
-        energy = _energy(masses[:n_in], masses[n_in:], self.scale) * energy_factor
+        energy = _energy(masses[:n_in], masses[n_in:], self.scale, self.masses) * energy_factor
         if n_in == 1 and energy_factor != 1.0:
             raise UsageError("a decay has a fixed energy")
         return phase_space(rng, self.points, masses[:n_in], masses[n_in:], energy)
