@@ -70,8 +70,9 @@ class _Builder:
     def _declare(self, name: str, what: str, span: Span) -> None:
         if name in self.declared:
             earlier, where = self.declared[name]
-            raise ModelMeaningError(f"'{name}' is already declared as a {earlier} (line {where.line})", span,
-                                    "give each field, parameter, group and definition its own name")
+            article = "an" if earlier[:1] in "aeiou" else "a"
+            raise ModelMeaningError(f"'{name}' is already declared as {article} {earlier} (line {where.line})", span,
+                                    "give each field, parameter, group, definition and index space its own name")
         if name in _DIRAC or name in _CONSTANTS or name in ("bar", "dag", "conj"):
             raise ModelMeaningError(f"'{name}' is a built-in name of the model language", span,
                                     f"choose another name, e.g. '{name}_1'")

@@ -55,9 +55,11 @@ def global_charge(symmetry: m.GlobalSymmetry, f: sx.FieldDecl, c: sx.ChargeAttr,
     # a real field equals its conjugate, so only a charge equal to its own negative fits it
     self_conjugate = symmetry.kind == "Z" and (2 * value) % symmetry.order == 0
     if not is_complex and not self_conjugate:
+        # a Majorana field cannot be made complex: a fermion with such a charge is a Dirac field
+        hint = (f"a Majorana field is its own antiparticle; a fermion with this charge is a Dirac field: "
+                f"dirac {f.name} ..." if f.kind == "majorana" else f"declare it complex: {f.kind} {f.name} complex ...")
         raise ModelMeaningError(f"the real field '{f.name}' cannot carry a {symmetry.label} charge "
-                                f"{'+' if value > 0 else ''}{value}", c.span,
-                                f"declare it complex: {f.kind} {f.name} complex ...")
+                                f"{'+' if value > 0 else ''}{value}", c.span, hint)
     return (c.group, value)
 
 
