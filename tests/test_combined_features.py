@@ -253,3 +253,26 @@ def test_a_name_clash_with_an_index_space_reads_an_index_space() -> None:
         vs.load_model(text=text, name="t.vsm")
     assert info.value.message == "'s' is already declared as an index space (line 3)"
     assert (info.value.span.line, info.value.span.column) == (7, 3)
+
+
+@pytest.mark.parametrize("line, column", [
+    # bar(chi) gamma^mu chi = 0 for a Majorana field (C gamma^T C^-1 = -gamma; Denner et al. NPB 387
+    # (1992) 467, from memory): the derivative coupling to s gives no vertex
+    ("  y d[mu] s bar(chi) gamma[mu] chi\n", 3),
+    # eps_ijk against the symmetric S_j S_k (common practice, no source)
+    ("  - y alt[i,j,k] S[i] S[j] S[k] + h.c.\n", 3),
+])
+def test_a_line_whose_terms_cancel_is_warned_at(line: str, column: int) -> None:
+    from vertexsmith.check import check_model
+    head = ("theory t\nparameters\n  coupling y = 0.3\n  coupling gs = 1.0\n  mass m = 2.0\n"
+            "gauge\n  color SU(3) boson G strength GS coupling gs\n"
+            "fields\n  majorana chi mass m\n  scalar s mass m\n  vector G\n"
+            "  scalar S complex mass m in color triplet\nlagrangian\n"
+            "  -1/4 GS[mu,nu,a] GS[mu,nu,a]\n  dag(D[mu] S) D[mu] S - m^2 dag(S) S\n"
+            "  1/2 bar(chi) (I gamma[mu] d[mu] - m) chi\n  1/2 d[mu] s d[mu] s - 1/2 m^2 s^2\n"
+            "  - 1/2 y s bar(chi) chi\n")
+    clean = check_model(vs.load_model(text=head, name="t.vsm"))
+    assert [d for d in clean if d.severity != "note"] == []
+    found = [d for d in check_model(vs.load_model(text=head + line, name="t.vsm")) if d.severity == "warning"]
+    assert [(d.message, d.span.line, d.span.column) for d in found] == [
+        ("the terms of this line cancel: it gives no vertex", 19, column)]

@@ -41,7 +41,8 @@ import sympy
 from . import model as m
 from . import progress
 from .assemble import derive_rules
-from .derive import canonical_legs, check_chains, make_legs, monomial_terms, species_label, species_of
+from .derive import (canonical_legs, check_chains, make_legs, monomial_terms, species_label, species_of,
+                     vertex_from)
 from .errors import Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, conjugate_param, expand_model
 from .invariance import find_violations, operator_dimension, show_net_charges
@@ -431,12 +432,38 @@ class _Checker:
     def check_derivation(self, monomials: list[Monomial]) -> None:
         """Errors of the derivation itself (unsupported mixing, kernels that cannot be inverted)."""
         try:
-            derive_rules(self.model, monomials, gauge="xi")
+            rules = derive_rules(self.model, monomials, gauge="xi")
         except VertexsmithError as error:
             taken = {d.span.line for d in self.diagnostics if d.severity == "error"}
             if error.span.line not in taken:
                 self.add_error(error)
+        else:
+            self.check_silent_lines(monomials, {line for v in rules.vertices for line in v.origins})
 
+    def check_silent_lines(self, monomials: list[Monomial], lines_with_vertices: set[int]) -> None:
+        """Warn at a line of interaction terms that gives no vertex: its terms cancel identically (a
+        Majorana vector current, alt against a symmetric product), which is rarely what was meant.
+        A line whose vertex is shared with other lines is derived again on its own, since their
+        terms would hide its cancellation."""
+        taken = {d.span.line for d in self.diagnostics if d.severity == "error"}
+        by_key: dict[Key, dict[int, list[Monomial]]] = defaultdict(lambda: defaultdict(list))
+        spans: dict[int, Span] = {}
+        for mono in monomials:
+            if len(mono.fields) >= 3 and mono.origin.line not in taken:
+                by_key[_key(self.model, mono)][mono.origin.line].append(mono)
+                spans.setdefault(mono.origin.line, mono.origin)
+        alive = set()
+        for key, lines in by_key.items():
+            for line, monos in lines.items():
+                if line in alive or line not in lines_with_vertices:
+                    continue
+                if len(lines) == 1 or vertex_from(self.model, list(key), monos) is not None:
+                    alive.add(line)
+        for line, span in spans.items():
+            if line not in alive:
+                self.add("warning", "the terms of this line cancel: it gives no vertex", span,
+                         "a Majorana pair has no vector or tensor current, and an alternating tensor against "
+                         "a symmetric product of fields vanishes; remove the line or correct it")
 
 def _kinetic_text(model: m.Model, f: m.Field) -> str:
     """The canonical kinetic term of a field, in the model language."""
