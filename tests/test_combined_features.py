@@ -276,3 +276,17 @@ def test_a_line_whose_terms_cancel_is_warned_at(line: str, column: int) -> None:
     found = [d for d in check_model(vs.load_model(text=head + line, name="t.vsm")) if d.severity == "warning"]
     assert [(d.message, d.span.line, d.span.column) for d in found] == [
         ("the terms of this line cancel: it gives no vertex", 19, column)]
+
+
+def test_a_majorana_mass_matrix_over_an_index_space_asks_for_mass_eigenstates() -> None:
+    # -1/2 M_ij chibar_i chi_j with an off-diagonal M mixes the two fields at quadratic order: the message
+    # used to speak of group indices only, which a generation index is not
+    text = ("theory mm\nspaces\n  dk 2\nparameters\n  mass M[dk,dk] = {{ 3.0, 1.0 }, { 1.0, 5.0 }}\n"
+            "fields\n  majorana chi over dk\nlagrangian\n"
+            "  1/2 bar(chi[i]) I gamma[mu] d[mu] chi[i] - 1/2 M[i,j] bar(chi[i]) chi[j]\n")
+    with pytest.raises(vs.DerivationError) as info:
+        vs.load_model(text=text, name="mm.vsm").derive()
+    assert info.value.message == ("the quadratic terms of bar(chi) and chi are not diagonal in their group or "
+                                  "index-space indices")
+    assert "mass eigenstates" in info.value.hint
+    assert (info.value.span.line, info.value.span.column) == (9, 3)

@@ -100,8 +100,12 @@ def read_entry(model: m.Model, legs: Sequence[Species], monomials: Iterable[Mono
     for mono in monomials:
         for coefficient, structure in monomial_terms(model, mono, leg_objects):
             if any(not isinstance(g, GroupDelta) for g in structure.group):
-                raise DerivationError(f"the quadratic terms of {who} are not diagonal in their group indices",
-                                      mono.origin, "write the kinetic and mass terms with the group indices contracted")
+                # a mass matrix over an index space lands here too: say so, since it needs a rotation
+                raise DerivationError(f"the quadratic terms of {who} are not diagonal in their group or "
+                                      "index-space indices", mono.origin,
+                                      "write the kinetic and mass terms with the indices contracted; a mass "
+                                      "matrix over an index space must be diagonalised first (rotate the fields "
+                                      "to mass eigenstates)")
             value = coefficient / sympy.I
             key = "one"
             vectors = 0
