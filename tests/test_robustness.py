@@ -50,9 +50,9 @@ def test_a_vector_cannot_be_called_d() -> None:
 @pytest.mark.parametrize("value, message", [
     ("1" * 70, "too large to use"),
     ("1e400", "too large to use"),
-    ("10^400", "too large to use"),
-    ("(1/3)^(-100000)", "too large to use"),
-    ("log(0)", "not a finite number"),
+    ("10^400", "this power is about 1e400, beyond the values a number may have"),
+    ("(1/3)^(-100000)", "this power is about 1e47712"),
+    ("log(0)", "log(0) is minus infinity, not a number"),
 ], ids=["long-integer", "float-overflow", "power", "huge-rational", "log-zero"])
 def test_numbers_that_cannot_be_used_are_refused_at_their_place(value: str, message: str) -> None:
     text = SCALAR.replace("coupling c = 0.5", f"coupling c = {value}")

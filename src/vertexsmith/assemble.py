@@ -9,6 +9,7 @@ from __future__ import annotations
 from collections import defaultdict
 from typing import Sequence
 
+from . import limits
 from . import model as m
 from . import progress
 from .derive import (Species, check_chains, gauge_fixing_monomials, ghost_monomials, has_ghosts, species_of,
@@ -29,6 +30,7 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
     monomials = list(monomials) + ghost_monomials(model, gauge)
     for mono in monomials:
         check_chains(model, mono)
+        limits.check_coefficient(mono.coefficient, mono.origin)
     groups: dict[tuple[Species, ...], list[Monomial]] = defaultdict(list)
     quadratic: list[Monomial] = []
     for mono in monomials:

@@ -13,13 +13,13 @@ from typing import Iterable
 
 import sympy
 
+from . import limits
 from . import model as m
 from . import syntax as sx
 from .errors import ModelMeaningError, Source, Span, did_you_mean
 from .build_symmetry import (alternating_hint, alternating_tensor, build_symmetries, global_charge,
                              summand_mismatch)
 from .groups import representation_name
-from .parse import MAX_NUMBER_DIGITS
 from .values import resolve_values_from
 from .spaces import (array_component, array_entries, array_parameter, check_index_spaces, check_matrix_property,
                      flavoured_field, space_size)
@@ -35,7 +35,7 @@ _ALIASES = {"γ": "gamma", "γ5": "gamma5", "γ⁵": "gamma5", "σ": "sigma", "�
 _SCALAR_FUNCTIONS = {"sqrt": sympy.sqrt, "sin": sympy.sin, "cos": sympy.cos, "tan": sympy.tan,
                      "exp": sympy.exp, "log": sympy.log, "re": sympy.re, "im": sympy.im}
 BUILTIN_NAMES = tuple(sorted(set(_DIRAC) | set(_TENSORS) | set(_DERIVATIVES) | set(_CONSTANTS)))
-MAX_FIELD_POWER = 12
+MAX_FIELD_POWER = limits.FIELD_POWER.limit
 
 
 def build_model(syntax: sx.ModelFile, source: Source) -> m.Model:
@@ -240,7 +240,8 @@ class _Builder:
                 if kinds[r.group] != "SU":
                     raise ModelMeaningError(f"'{r.group}' is abelian: its fields carry a charge, not a representation",
                                             r.span, f"write: charge {r.group} VALUE")
-                rank = int(self.groups_syntax[r.group].rank) if self.groups_syntax[r.group].rank.isdigit() else 0
+                text = self.groups_syntax[r.group].rank
+                rank = int(text) if text.isdigit() and len(text) <= 60 else 0
                 rep = representation_name(r.representation, rank)
                 if rep is None:
                     raise ModelMeaningError(f"unknown representation '{r.representation}' of SU({rank})", r.span,
@@ -278,10 +279,12 @@ class _Builder:
     def _build_groups(self) -> None:
         for g in self.syntax.gauges:
             kind = f"{g.group}({g.rank})"
-            rank = int(g.rank) if g.rank.isdigit() else 0
+            rank = int(g.rank) if g.rank.isdigit() and len(g.rank) <= 60 else 0
             if not (kind == "U(1)" or (g.group == "SU" and rank >= 2)):
-                raise ModelMeaningError(f"unknown gauge group '{kind}'", self._attr_span(g, "group"),
+                raise ModelMeaningError(f"unknown gauge group '{_short_text(kind)}'", self._attr_span(g, "group"),
                                         "write U(1) or SU(N) with a whole N >= 2")
+            limits.check_budget(limits.GROUP_RANK, rank, self._attr_span(g, "group"), f"the group {_short_text(kind)}",
+                                f"write SU(N) with N from 2 to {limits.GROUP_RANK.limit}", ModelMeaningError)
             for key in ("boson", "strength", "coupling"):
                 if getattr(g, key) is None:
                     raise ModelMeaningError(f"gauge group '{g.name}' needs a {key}", g.span,
@@ -358,7 +361,11 @@ class _Builder:
             if node.function == "conj":
                 return sympy.conjugate(self._scalar(node.argument))
             if node.function in _SCALAR_FUNCTIONS:
-                return _SCALAR_FUNCTIONS[node.function](self._scalar(node.argument))
+                argument = self._scalar(node.argument)
+                limits.check_function(node.function, argument, node.span, ModelMeaningError)
+                value = _SCALAR_FUNCTIONS[node.function](argument)
+                limits.check_magnitude(value, node.span, f"{node.function}() of this argument", ModelMeaningError)
+                return value
             raise ModelMeaningError(f"{node.function}() needs a field, but a number is needed here", node.span,
                                     "only sqrt, sin, cos, tan, exp, log and conj of parameters may appear here")
         if isinstance(node, sx.Group):
@@ -369,18 +376,22 @@ class _Builder:
                     raise ModelMeaningError("'h.c.' belongs in a Lagrangian term", t.span, "remove it here")
             return sympy.Add(*[sign * self._scalar(t) for sign, t in node.terms])
         if isinstance(node, sx.Product):
-            return sympy.Mul(*[self._scalar(f) for f in node.factors])
+            product = sympy.Mul(*[self._scalar(f) for f in node.factors])
+            limits.check_magnitude(product, node.span, "this product", ModelMeaningError)
+            return product
         if isinstance(node, sx.Quotient):
             denominator = self._scalar(node.denominator)
             if denominator == 0:
-                raise ModelMeaningError("division by zero", node.denominator.span, "")
-            return self._scalar(node.numerator) / denominator
+                raise ModelMeaningError("division by zero: the denominator is 0", node.denominator.span,
+                                        "divide by a number or parameter that is not zero")
+            quotient = self._scalar(node.numerator) / denominator
+            limits.check_magnitude(quotient, node.span, "this quotient", ModelMeaningError)
+            return quotient
         if isinstance(node, sx.Power):
-            result = self._scalar(node.base) ** self._scalar(node.exponent)
-            if result.is_number and (not result.is_finite or (result.is_Rational and max(
-                    abs(result.p), result.q) > 10 ** MAX_NUMBER_DIGITS)):  # type: ignore[attr-defined]
-                raise ModelMeaningError("this power is too large to use", node.span,
-                                        "write a parameter in sensible units instead")
+            base, exponent = self._scalar(node.base), self._scalar(node.exponent)
+            limits.check_power(base, exponent, node.span, ModelMeaningError)  # before sympy computes it
+            result = base ** exponent
+            limits.check_magnitude(result, node.span, "this power", ModelMeaningError)
             return result
         if isinstance(node, sx.HermitianConjugate):
             raise ModelMeaningError("'h.c.' belongs in a Lagrangian term", node.span, "remove it here")
@@ -769,3 +780,8 @@ def _names_in(node: sx.Expr | sx.Array) -> set[str]:
 
 def _certainly_complex(expr: sympy.Expr) -> bool:
     return bool(expr.free_symbols == set() and expr.is_real is False)
+
+
+def _short_text(text: str) -> str:
+    """Text from the model shortened for a message (a generated name may be thousands of characters)."""
+    return text if len(text) <= 40 else text[:30] + "..." + text[-6:]

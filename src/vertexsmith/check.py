@@ -43,7 +43,7 @@ from . import progress
 from .assemble import derive_rules
 from .derive import (canonical_legs, check_chains, make_legs, monomial_terms, species_label, species_of,
                      vertex_from)
-from .errors import Source, Span, VertexsmithError, format_diagnostic
+from .errors import DerivationError, Source, Span, VertexsmithError, format_diagnostic
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, conjugate_param, expand_model
 from .invariance import find_violations, operator_dimension, show_net_charges
 from .quadratic import QuadraticForm, quadratic_form
@@ -59,6 +59,7 @@ _CONJUGATE_DIRAC = {"gamma": ("gamma", 1), "sigma": ("sigma", 1), "gamma5": ("ga
 _TOLERANCE = 1e-9
 _FLOOR = 1e-12  # below this a vertex built from O(1) inputs is zero
 _SEED = 20240611
+_PROBES = 3  # independent random contractions per vertex
 
 Species = tuple[str, bool]
 Key = tuple[Species, ...]
@@ -150,6 +151,7 @@ class _NumericPoint:
             self.values[name] = complex(re, im) if p.is_complex else complex(re)
         self._momenta: dict[int, np.ndarray] = {}
         self._cache: dict[tuple[Key, Monomial], np.ndarray] = {}
+        self._probes: dict[Key, dict[tuple, np.ndarray]] = {}
 
     def momenta(self, n: int) -> np.ndarray:
         if n not in self._momenta:
@@ -160,13 +162,39 @@ class _NumericPoint:
             self._momenta[n] = p
         return self._momenta[n]
 
+    def probes(self, key: Key, legs: tuple) -> dict[tuple, np.ndarray]:
+        """Random complex vectors for every axis of the legs `key`, the same for a key every time.
+
+        Two vertex functions are compared through their contractions with these vectors: equal
+        tensors give equal numbers, and unequal ones differ at a random point with probability 1,
+        while the tensor itself (4 x 4 x ... x N^2-1 numbers) is never built.
+        """
+        if key not in self._probes:
+            rng = np.random.default_rng([_SEED, len(self._probes)])
+            vectors: dict[tuple, np.ndarray] = {("batch",): np.ones(_PROBES, dtype=complex)}
+            for leg in legs:
+                dims = {group: d for group, _, d in leg.representations}
+                for axis in leg.axes:
+                    n = dims[axis[2]] if axis[0] == "group" else 4
+                    vectors[axis] = rng.normal(size=(_PROBES, n)) + 1j * rng.normal(size=(_PROBES, n))
+            self._probes[key] = vectors
+        return self._probes[key]
+
     def monomial(self, key: Key, mono: Monomial) -> np.ndarray:
-        """The vertex of one monomial on the legs `key`, as numbers."""
+        """The vertex of one monomial on the legs `key`, contracted with the key's random vectors."""
         if (key, mono) not in self._cache:
             legs = make_legs(self.model, canonical_legs(self.model, list(key)))
             terms = tuple(VertexTerm(c, s) for c, s in monomial_terms(self.model, mono, legs))
             vertex = Vertex(legs, terms, self.model)
-            self._cache[(key, mono)] = vertex.evaluate(self.momenta(len(legs)), values=self.values)
+            try:
+                numbers = vertex.evaluate_contracted(self.momenta(len(legs)), self.probes(key, legs), self.values)
+            except DerivationError as error:  # numbers beyond double precision: say which line
+                raise DerivationError(error.message, mono.origin, error.hint) from None
+            if not np.all(np.abs(numbers) < 1e150):  # their squares, in the comparison, must stay finite
+                raise DerivationError("the numbers of this term are too large for double precision (above 1e150 "
+                                      "at a generic point)", mono.origin,
+                                      "write its parameters and charges in sensible units, of size about 1")
+            self._cache[(key, mono)] = numbers
         return self._cache[(key, mono)]
 
     def vertex(self, key: Key, monomials: Iterable[Monomial]) -> tuple[np.ndarray, float]:

@@ -20,6 +20,7 @@ from typing import Iterable, Iterator, Sequence
 
 import sympy
 
+from . import limits
 from . import model as m
 from .errors import DerivationError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom, is_plain_product
@@ -31,7 +32,7 @@ from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, G
                          Vector, canonical_structure, momentum_slots, permutation_sign, replace_slot,
                          structure_sort_key)
 
-MAX_ASSIGNMENTS = 40_320  # 8!: beyond this one monomial's vertex takes more than seconds
+MAX_ASSIGNMENTS = limits.ASSIGNMENTS.limit
 Species = tuple[str, bool]
 
 
@@ -344,12 +345,14 @@ def monomial_terms(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> lis
 # ------------------------------------------------------------------ collecting terms
 
 def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.Expr, Structure]]:
-    total: dict[Structure, sympy.Expr] = {}
+    # summands are gathered and added once: adding them one by one is quadratic in their number
+    total: dict[Structure, list[sympy.Expr]] = {}
     for coefficient, structure in pairs:
-        total[structure] = total[structure] + coefficient if structure in total else coefficient
+        total.setdefault(structure, []).append(coefficient)
     out = []
-    for structure, coefficient in total.items():
-        c = coefficient if is_plain_product(coefficient) else sympy.factor(sympy.expand(coefficient))
+    for structure, summands in total.items():
+        coefficient = sympy.Add(*summands)
+        c = coefficient if is_plain_product(coefficient) else limits.factor_within_budget(sympy.expand(coefficient))
         if c != 0:
             out.append((c, structure))
     return out
@@ -416,10 +419,15 @@ def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial
     legs = make_legs(model, canonical_legs(model, species))
     pairs: list[tuple[sympy.Expr, Structure]] = []
     for mono in monomials:
+        # one monomial's assignments are budgeted in _assignments; here the whole vertex's
+        limits.check_budget(limits.VERTEX_ASSIGNMENTS, len(pairs), mono.origin, "this vertex",
+                            "split the vertex's terms, or use fewer identical fields with indices")
         pairs.extend(monomial_terms(model, mono, legs))
     collected = _collect(pairs)
     if not collected:
         return None
+    limits.check_budget(limits.TERMS_PER_VERTEX, len(collected), monomials[0].origin, "this vertex",
+                        "split the vertex's terms over fewer distinct index structures")
     # momentum conservation: a term with the total momentum p1 + ... + pn in a slot vanishes
     merged = [(c, s) for c, s in _merge_momenta(collected) if not _has_total_momentum(s, len(legs))]
     if not merged:

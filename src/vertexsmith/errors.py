@@ -36,8 +36,10 @@ class Source:
     text: str
 
     def line(self, number: int) -> str:
-        lines = self.text.splitlines()
-        return lines[number - 1] if 0 < number <= len(lines) else ""
+        # split at '\n' only, as the parser counts lines: str.splitlines() also breaks at a form
+        # feed, U+0085, U+2028 and other characters the parser reads as part of a line
+        lines = self.text.split("\n")
+        return lines[number - 1].rstrip("\r") if 0 < number <= len(lines) else ""
 
 
 _E = TypeVar("_E", bound="VertexsmithError")

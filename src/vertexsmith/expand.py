@@ -15,15 +15,16 @@ from typing import Callable, Union
 
 import sympy
 
+from . import limits
 from . import model as m
 from .errors import DerivationError, ModelMeaningError, Span
 from .symbolic import is_plain_product  # noqa: F401 - derive reads it from here too
 from .fermion_flow import reversed_chain
 from .alternating import contract_alternating
 
-MAX_MONOMIALS_PER_TERM = 20_000
-MAX_MONOMIALS = 200_000
-MAX_FIELDS_PER_MONOMIAL = 12
+MAX_MONOMIALS_PER_TERM = limits.TERMS_PER_LINE.limit
+MAX_MONOMIALS = limits.MONOMIALS.limit
+MAX_FIELDS_PER_MONOMIAL = limits.LEGS.limit
 
 
 @dataclass(frozen=True)
@@ -474,7 +475,8 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
     """One Lagrangian line as monomials, like terms combined, zeros dropped."""
     expander = expander or _Expander(model)
     partials = expander.expand(term.node)
-    combined: dict[tuple[Atom, ...], sympy.Expr] = {}
+    # summands are gathered and added once: adding them one by one is quadratic in their number
+    combined: dict[tuple[Atom, ...], list[sympy.Expr]] = {}
     for p in partials:
         if p.pending:
             op = p.pending[-1]
@@ -486,10 +488,12 @@ def expand_term(model: m.Model, term: m.Term, expander: "_Expander | None" = Non
         atoms = _implied_group_indices(model, p.atoms, expander, term.span) if model.has_non_abelian else p.atoms
         for factor, reduced in contract_alternating(atoms, MAX_MONOMIALS_PER_TERM):
             key = _canonical_indices(reduced)
-            combined[key] = combined.get(key, sympy.Integer(0)) + p.coefficient * factor
+            combined.setdefault(key, []).append(p.coefficient * factor)
     out = []
-    for atoms, coefficient in combined.items():
+    for atoms, summands in combined.items():
+        coefficient = sympy.Add(*summands)
         if not is_plain_product(coefficient):
+            limits.check_expansion(coefficient, term.span, "the coefficient of this term")
             coefficient = sympy.expand(coefficient)
         if coefficient != 0:
             out.append(Monomial(coefficient, atoms, term.span))
@@ -500,6 +504,9 @@ def expand_model(model: m.Model) -> tuple[Monomial, ...]:
     """Every monomial of the Lagrangian, term by term in written order, Majorana chains in flow form."""
     expander = _Expander(model)
     out: list[Monomial] = []
+    if len(model.terms) > limits.LAGRANGIAN_LINES.limit:  # before any of them is expanded
+        raise limits.over_budget(limits.LAGRANGIAN_LINES, len(model.terms),
+                                 model.terms[limits.LAGRANGIAN_LINES.limit].span, "the Lagrangian")
     for term in model.terms:
         out.extend(expand_term(model, term, expander))
         if len(out) > MAX_MONOMIALS:

@@ -13,6 +13,8 @@ from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
+from . import limits
+from .errors import UNKNOWN_SPAN
 from .groups import su_alternating, su_generators, su_structure_constants
 from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant, Vector)
@@ -87,11 +89,15 @@ def momentum_value(momentum: Momentum, momenta: np.ndarray) -> np.ndarray:
 def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta: np.ndarray,
                        eps0123: int, ranks: dict[str, int] | None = None,
                        leg_dims: dict[tuple[int, str], int] | None = None,
-                       arrays: Mapping[str, np.ndarray] | None = None) -> np.ndarray:
+                       arrays: Mapping[str, np.ndarray] | None = None,
+                       probes: Mapping[tuple, np.ndarray] | None = None) -> np.ndarray:
     """The tensor of one structure with axes in leg order.
 
     leg_axes lists label keys: ("lorentz", leg), ("spinor", leg), ("group", leg, group); ranks gives N of
     each SU(N) group and the size of each index space; arrays the values of vector and matrix parameters.
+    With `probes` (a (k, length) array per axis key and a (k,) array under ("batch",)) every axis is
+    contracted with its random vectors instead, and the result is the k numbers of the contraction:
+    the tensor is never built, however many legs it has.
     """
     ranks = ranks or {}
     leg_dims = leg_dims or {}
@@ -165,11 +171,27 @@ def evaluate_structure(structure: Structure, leg_axes: Sequence[tuple], momenta:
             dim = leg_dims.get((first.leg, first.group), n) if isinstance(first, LegGroupIndex) else n
             operands.append(np.eye(dim, dtype=complex))
         subscripts.append("".join(group_label(x) for x in g.slots_))
-    output = "".join(labels.of(key) for key in leg_axes)
-    if not operands:
-        return np.array(scalar, dtype=complex)
+    if probes is not None:
+        # contract every leg axis with its random vectors: k numbers instead of the whole tensor
+        batch = labels.fresh()
+        operands.append(probes[("batch",)])
+        subscripts.append(batch)
+        for key in leg_axes:
+            operands.append(probes[key])
+            subscripts.append(batch + labels.of(key))
+        output = batch
+    else:
+        output = "".join(labels.of(key) for key in leg_axes)
+        if not operands:
+            return np.array(scalar, dtype=complex)
+        sizes = {label: n for sub, op in zip(subscripts, operands) for label, n in zip(sub, op.shape)}
+        elements = limits.tensor_elements(sizes.get(label, 1) for label in output)
+        limits.check_budget(limits.TENSOR_ELEMENTS, elements, UNKNOWN_SPAN, "the numeric array of this vertex",
+                            "evaluate a vertex with fewer legs or smaller groups")
     expression = ",".join(subscripts) + "->" + output
-    return scalar * np.einsum(expression, *operands, optimize=len(operands) > 2)
+    # the memory cap keeps einsum's intermediate arrays inside the same budget
+    return scalar * np.einsum(expression, *operands,
+                              optimize=("greedy", limits.TENSOR_ELEMENTS.limit) if len(operands) > 2 else False)
 
 
 def _chain_operands(chain: Chain, labels: _Labels, operands: list[np.ndarray], subscripts: list[str],

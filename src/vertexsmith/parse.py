@@ -17,16 +17,17 @@ from functools import lru_cache
 from typing import IO, Any, Callable, Iterator, Mapping
 
 import lark
-from lark import Lark, Token, Transformer, v_args
+from lark import Lark, Token, Transformer, Tree, v_args
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken, VisitError
 
+from . import limits
 from . import syntax as sx
 from ._cache import cached_build
 from ._resources import grammar_text
 from .errors import ModelMeaningError, ModelSyntaxError, Source, Span, VertexsmithError
 
-MAX_MODEL_BYTES = 2_000_000
-MAX_HAND_BYTES = 1_000_000
+MAX_MODEL_BYTES = limits.MODEL_BYTES.limit
+MAX_HAND_BYTES = limits.HAND_RULES_BYTES.limit
 
 _PARAM_WORDS = {"MASS", "COUPLING", "ANGLE", "WIDTH", "PARAMETER", "REAL", "COMPLEX", "HERMITIAN", "UNITARY"}
 _MATRIX_WORDS = ("hermitian", "unitary")
@@ -92,8 +93,8 @@ def _token_span(token: Token) -> Span:
     return Span(token.line or 0, token.column or 0, token.end_line or token.line or 0, max(token.column or 0, end))
 
 
-MAX_NUMBER_DIGITS = 60
-MAX_EXPONENT = 300
+MAX_NUMBER_DIGITS = limits.NUMBER_DIGITS.limit
+MAX_EXPONENT = limits.NUMBER_EXPONENT.limit
 
 
 def _checked(token: Token) -> str:
@@ -144,6 +145,18 @@ class _Operators(Transformer):
 
     def sub(self, meta: Any, children: list[Any]) -> Any:
         return self._sum(self._summands(children[0]) + ((-1, children[1]),), _span(meta))
+
+    def flat_sum(self, meta: Any, children: list[Any]) -> Any:
+        # a chain of + and - flattened by _flatten_chains: first, sign, term, sign, term, ...
+        terms = list(self._summands(children[0]))
+        terms += [(1 if sign == "+" else -1, term) for sign, term in zip(children[1::2], children[2::2])]
+        return self._sum(tuple(terms), _span(meta))
+
+    def flat_product(self, meta: Any, children: list[Any]) -> Any:
+        limits.check_budget(limits.PRODUCT_FACTORS, len(children), _span(meta), "this product",
+                            "write repeated factors as a power, or split the term", ModelSyntaxError)
+        factors = list(children[0].factors if isinstance(children[0], self._product) else (children[0],))
+        return self._product(tuple(factors + children[1:]), _span(meta))
 
     def neg(self, meta: Any, children: list[Any]) -> Any:
         return self._sum(((-1, children[0]),), _span(meta))
@@ -452,6 +465,35 @@ def _model_token_hint(exc: UnexpectedToken, at: Span, expected: str) -> str:
     return f"expected {expected}"
 
 
+_DECLARATION_SECTIONS = {**{kind: "fields" for kind in ("scalar", "dirac", "majorana", "vector", "ghost")},
+                         **{word: "parameters" for word in ("mass", "coupling", "angle", "width", "parameter")}}
+
+
+def _misplaced_declaration(text: str, error: ModelSyntaxError) -> ModelSyntaxError | None:
+    """A field or parameter declaration under the wrong header (or none), named as such.
+
+    Without its header, `vector G` reads as the start of a gauge line or a Lagrangian term, and
+    the parser's own complaint ("expected '('") says nothing the user can act on.
+    """
+    lines = text.split("\n")
+    if not 0 < error.span.line <= len(lines):
+        return None
+    words = lines[error.span.line - 1].split("#")[0].split()
+    wanted = _DECLARATION_SECTIONS.get(words[0]) if words else None
+    if wanted is None:
+        return None
+    section = next((line.strip() for line in reversed(lines[:error.span.line - 1])
+                    if line.strip() in _SECTION_WORDS and not line[:1].isspace()), None)
+    if section == wanted:
+        return None
+    column = lines[error.span.line - 1].index(words[0]) + 1
+    kind = "field" if wanted == "fields" else "parameter"
+    where = f"under '{section}'" if section else "before any section header"
+    return ModelSyntaxError(f"'{words[0]}' starts a {kind} declaration, but this line is {where}",
+                            Span(error.span.line, column, error.span.line, column + len(words[0]) - 1),
+                            f"write '{wanted}' on its own line before the {kind} declarations")
+
+
 def _hand_token_hint(exc: UnexpectedToken, at: Span, expected: str) -> str:
     if exc.column == 1 or exc.token.type == "NAME" and "VERTEX" in exc.expected:
         return "a rule starts with 'vertex LEGS : FACTOR', 'propagator FIELD : FACTOR' or 'gauge NAME'"
@@ -506,7 +548,7 @@ def _misspelled_keyword(text: str, line: int, column: int, keywords: tuple[str, 
 
 
 def _ends_early(text: str, hint: str) -> ModelSyntaxError:
-    lines = text.splitlines() or [""]
+    lines = (text[:-1] if text.endswith("\n") else text).split("\n")
     return ModelSyntaxError("the file ends too early", Span.point(len(lines), len(lines[-1]) + 1), hint)
 
 
@@ -539,7 +581,7 @@ def _syntax_error(exc: UnexpectedInput, text: str, language: _Language) -> Model
 def _unclosed_bracket(text: str) -> tuple[int, int] | None:
     """Line and column of the last bracket that is never closed (comments and strings skipped)."""
     stack: list[tuple[int, int]] = []
-    for number, line in enumerate(text.splitlines(), start=1):
+    for number, line in enumerate(text.split("\n"), start=1):
         in_string = False
         for column, char in enumerate(line, start=1):
             if char == '"':
@@ -555,11 +597,75 @@ def _unclosed_bracket(text: str) -> tuple[int, int] | None:
     return stack[-1] if stack else None
 
 
+_CHAINS = {"add": "flat_sum", "sub": "flat_sum", "mul": "flat_product"}
+
+
+def _flat(chain: Tree) -> Tree:
+    """One left-nested chain a + b - c ... (or a b c ...) as one node with all its operands."""
+    kind = _CHAINS[chain.data]
+    parts: list[Any] = []
+    node: Any = chain
+    while isinstance(node, Tree) and _CHAINS.get(node.data) == kind:
+        left, right = node.children
+        parts.append(right)
+        if kind == "flat_sum":
+            parts.append(Token("SIGN", "+" if node.data == "add" else "-"))
+        node = left
+    parts.append(node)
+    parts.reverse()
+    return Tree(kind, parts, meta=chain.meta)
+
+
+def _flatten_chains(tree: Tree) -> Tree:
+    """Flatten every chain of sums and products, without recursion.
+
+    Lark builds `1 + 1 + ... + 1` as a left-nested tree as deep as the chain is long; transforming
+    that recursively overflows Python's stack at a few thousand terms, and flattening it one level
+    at a time costs time quadratic in its length. Flat, both are linear.
+    """
+    stack = [tree]
+    while stack:
+        node = stack.pop()
+        for i, child in enumerate(node.children):
+            if isinstance(child, Tree):
+                if child.data in _CHAINS:
+                    node.children[i] = child = _flat(child)
+                stack.append(child)
+    return tree
+
+
+def _check_nesting(text: str, source: Source) -> None:
+    """Refuse brackets nested deeper than the budget, at the first bracket past it (before parsing)."""
+    depth, line, column = 0, 1, 0
+    in_string = in_comment = False
+    for char in text:
+        column += 1
+        if char == "\n":
+            line, column, in_string, in_comment = line + 1, 0, False, False
+        elif in_comment:
+            continue
+        elif char == '"':
+            in_string = not in_string
+        elif in_string:
+            continue
+        elif char == "#":
+            in_comment = True
+        elif char in "([":
+            depth += 1
+            if depth > limits.NESTING.limit:
+                raise limits.over_budget(limits.NESTING, depth, Span.point(line, column),
+                                         "this bracket", "write the expression with fewer brackets, or "
+                                         "split it with a definition", ModelSyntaxError).with_source(source)
+        elif char in ")]":
+            depth = max(0, depth - 1)
+
+
 def _read(text: str, source: Source, language: _Language) -> Any:
     """Parse and transform `text`; every failure becomes one of our errors, carrying `source`."""
     padded = text if text.endswith("\n") else text + "\n"
+    _check_nesting(padded, source)
     try:
-        return language.transformer().transform(_parser(language).parse(padded))
+        return language.transformer().transform(_flatten_chains(_parser(language).parse(padded)))
     except VisitError as exc:
         inner = exc.orig_exc
         if isinstance(inner, VertexsmithError):
@@ -571,6 +677,8 @@ def _read(text: str, source: Source, language: _Language) -> Any:
         if opener is not None and error.message == "the file ends too early":
             error = ModelSyntaxError("this bracket is never closed", Span.point(*opener),
                                      "close it on the same term; a line goes on while a bracket is open")
+        elif language is _MODEL:
+            error = _misplaced_declaration(padded, error) or error
         raise error.with_source(source) from None
     except RecursionError:
         raise ModelSyntaxError(language.too_deep, hint=language.too_deep_hint).with_source(source) from None
@@ -582,6 +690,7 @@ def parse_text(text: str, name: str = "<model>") -> sx.ModelFile:
     if len(text.encode("utf-8", "replace")) > MAX_MODEL_BYTES:
         raise ModelSyntaxError(f"the model file is larger than {MAX_MODEL_BYTES} bytes",
                                hint="split the model or remove generated text").with_source(source)
+    limits.check_tokens(text, source)
     if "\x00" in text:
         offset = text.index("\x00")
         line = text.count("\n", 0, offset) + 1
@@ -595,7 +704,7 @@ def parse_text(text: str, name: str = "<model>") -> sx.ModelFile:
 
 def _rule_text(text: str, span: Span, factor_span: Span) -> str:
     """The factor as written: the text after the rule's colon, comments dropped, lines joined."""
-    lines = text.splitlines()[span.line - 1:max(span.line, factor_span.end_line)]
+    lines = text.split("\n")[span.line - 1:max(span.line, factor_span.end_line)]
     joined = " ".join(line.split("#", 1)[0].strip() for line in lines)
     return joined.split(":", 1)[1].strip() if ":" in joined else joined
 

@@ -19,10 +19,11 @@ import dataclasses
 from pathlib import Path
 from typing import TYPE_CHECKING, Callable
 
+from . import limits
 from . import model as m
 from .build import build_model
 from .assemble import derive_rules
-from .errors import Source, UsageError, VertexsmithError
+from .errors import ModelSyntaxError, Source, Span, UsageError, VertexsmithError
 from .expand import Monomial, expand_model
 from .parse import parse_text
 from .rules import Rules
@@ -43,18 +44,42 @@ def read_model_text(path: str | Path | None = None, *, text: str | None = None,
         if path is None:
             raise UsageError("give a model file path or text=")
         file = Path(path)
+        name = name or str(path)
         try:
-            text = file.read_text(encoding="utf-8")
-        except UnicodeDecodeError:
-            raise UsageError(f"{file}: not a UTF-8 text file", hint="save the model as plain UTF-8 text") from None
+            with file.open("rb") as stream:  # never more than the budget allows, however large the file
+                data = stream.read(limits.MODEL_BYTES.limit + 1)
+                if len(data) > limits.MODEL_BYTES.limit:
+                    data += stream.readline(100_000)  # the whole line shown under the error
         except OSError as exc:
             raise UsageError(f"{file}: cannot read the model file ({exc.strerror or exc})",
                              hint="check the path") from None
-        name = name or str(path)
+        text = _decoded(data, name)
     if not isinstance(text, str):
         raise UsageError("load_model(text=...) takes a str", hint="decode bytes first: data.decode('utf-8')")
     text = text.removeprefix("\ufeff")  # a byte-order mark some editors write
     return Source(name or "<model>", text)
+
+
+def _decoded(data: bytes, name: str) -> str:
+    """A model file's bytes as text with universal newlines; a byte that is not UTF-8, or the byte
+    past the size budget, is reported at its line and column."""
+    def place(offset: int) -> Span:
+        before = data[:offset].decode("utf-8", "replace").replace("\r\n", "\n").replace("\r", "\n")
+        return Span.point(before.count("\n") + 1, len(before) - before.rfind("\n"))
+
+    def whole() -> Source:
+        return Source(name, data.decode("utf-8", "replace").replace("\r\n", "\n").replace("\r", "\n"))
+
+    if len(data) > limits.MODEL_BYTES.limit:
+        raise limits.over_budget(limits.MODEL_BYTES, f"more than {limits.MODEL_BYTES.limit:,}",
+                                 place(limits.MODEL_BYTES.limit), "the model file", "split the model or remove "
+                                 "generated text", ModelSyntaxError).with_source(whole())
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise UsageError(f"byte 0x{data[exc.start]:02x} is not UTF-8 text; is this a model file?",
+                               place(exc.start), "save the model as plain UTF-8 text").with_source(whole()) from None
+    return text.replace("\r\n", "\n").replace("\r", "\n")  # universal newlines, as text files are read
 
 
 def prepare_model(model: m.Model) -> m.Model:

@@ -20,6 +20,7 @@ from typing import Callable, Sequence
 
 import sympy
 
+from . import limits
 from . import model as m
 from .errors import DerivationError
 from .spaces import index_dimension
@@ -46,7 +47,8 @@ def single_propagator(model: m.Model, f: m.Field, entry: dict[str, sympy.Expr], 
         k = kernel.get("one", zero)
         if k == 0:
             raise _no_kernel(f)
-        return Propagator(f.name, "scalar", sympy.factor(sympy.I / k), zero, gauge, model, _reps(model, f))
+        return Propagator(f.name, "scalar", limits.factor_within_budget(sympy.I / k), zero, gauge, model,
+                          _reps(model, f))
     if f.is_fermion:
         alpha, beta = kernel.get("slash_L", zero), kernel.get("slash_R", zero)
         mass_l, mass_r = kernel.get("one_L", zero), kernel.get("one_R", zero)
@@ -58,17 +60,18 @@ def single_propagator(model: m.Model, f: m.Field, entry: dict[str, sympy.Expr], 
                 raise DerivationError(f"'{f.name}' has a mass but chiral kinetic terms", f.span,
                                       "write the kinetic term as bar(psi) I gamma[mu] D[mu] psi")
             # K = pslash (alpha PL + beta PR)  =>  D = i (PL / alpha + PR / beta) pslash / p^2
-            left = sympy.factor(sympy.I / (alpha * P2)) if alpha != 0 else zero
-            right = sympy.factor(sympy.I / (beta * P2)) if beta != 0 else zero
+            left = limits.factor_within_budget(sympy.I / (alpha * P2)) if alpha != 0 else zero
+            right = limits.factor_within_budget(sympy.I / (beta * P2)) if beta != 0 else zero
             return Propagator(f.name, "dirac", zero, zero, gauge, model, _reps(model, f), (left, right))
-        denominator = sympy.factor(alpha**2 * P2 - mass_l**2)
+        denominator = limits.factor_within_budget(alpha**2 * P2 - mass_l**2)
         if denominator == 0:
             raise _no_kernel(f)
         # (a pslash + b)^-1 = (a pslash - b) / (a^2 p^2 - b^2)
-        return Propagator(f.name, "dirac", sympy.factor(sympy.I * alpha / denominator),
-                          sympy.factor(-sympy.I * mass_l / denominator), gauge, model, _reps(model, f))
+        return Propagator(f.name, "dirac", limits.factor_within_budget(sympy.I * alpha / denominator),
+                          limits.factor_within_budget(-sympy.I * mass_l / denominator), gauge, model,
+                          _reps(model, f))
     a, b = kernel.get("metric", zero), kernel.get("pp", zero)
-    longitudinal = sympy.factor(a + b * P2)
+    longitudinal = limits.factor_within_budget(a + b * P2)
     if a == 0 or longitudinal == 0:
         group = model.boson_group(f.name)
         if a == 0:
@@ -79,8 +82,8 @@ def single_propagator(model: m.Model, f: m.Field, entry: dict[str, sympy.Expr], 
             hint = "a massless vector needs gauge fixing: make it the boson of a gauge group"
         raise DerivationError(f"the quadratic kernel of '{f.name}' cannot be inverted", f.span, hint)
     # (a g + b p p)^-1 = g / a - b p p / (a (a + b p^2))
-    return Propagator(f.name, "vector", sympy.factor(sympy.I / a),
-                      sympy.factor(-sympy.I * b / (a * longitudinal)), gauge, model, _reps(model, f))
+    return Propagator(f.name, "vector", limits.factor_within_budget(sympy.I / a),
+                      limits.factor_within_budget(-sympy.I * b / (a * longitudinal)), gauge, model, _reps(model, f))
 
 
 # ------------------------------------------------------------------ mixed blocks
@@ -102,7 +105,7 @@ def _inverse(matrix: sympy.Matrix, what: str, field: m.Field) -> sympy.Matrix:
 def _simplified(expr: sympy.Expr, factor: bool = True) -> sympy.Expr:
     """One fraction, factored for reading; Dirac blocks stay expanded (factoring the determinant of
     a block with complex chiral masses takes seconds)."""
-    return sympy.factor(sympy.cancel(expr)) if factor else sympy.cancel(expr)
+    return limits.factor_within_budget(sympy.cancel(expr)) if factor else sympy.cancel(expr)
 
 
 def block_propagators(form: QuadraticForm, block: Sequence[str], gauge: str) -> list[Propagator]:

@@ -11,14 +11,15 @@ import dataclasses
 from dataclasses import dataclass, replace
 from fractions import Fraction
 from functools import cached_property
-from typing import TYPE_CHECKING, Callable, Mapping, Sequence
+from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 
 import sympy
 
 from .conventions import MIXING_TEXT
-from .errors import UsageError, did_you_mean
+from .errors import UNKNOWN_SPAN, DerivationError, Span, UsageError, did_you_mean
 from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
 from .fermion_flow import FERMION_FLOW_TEXT
+from .limits import TENSOR_ELEMENTS, check_budget, check_finite, tensor_elements
 from .propagator_latex import customary_propagator_latex
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (factor_text, surely_symbolic, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
@@ -256,7 +257,11 @@ class Vertex:
 
     @cached_property
     def latex(self) -> str:
-        return " + ".join(_part_latex(p) for p in self.parts).replace("+ -", "- ")
+        try:
+            return " + ".join(_part_latex(p) for p in self.parts).replace("+ -", "- ")
+        except DerivationError as error:  # a budget of the printer: point at the vertex's first line
+            line = self.origins[0] if self.origins else 0
+            raise DerivationError(error.message, Span.point(line, 1) if line else error.span, error.hint) from None
 
     # notebook and terminal display (render/notebook.py): tables with the picture and typeset factor
     def _repr_latex_(self) -> str:
@@ -293,7 +298,45 @@ class Vertex:
 
         what = "vertex " + " ".join(self.labels)
         p = _batch(momenta, len(self.legs), what)
-        return self._compiled(*np.moveaxis(p, -2, 0), _values_for(self.model, values, what, self._value_cache))
+        # the array's size is known from the legs: refuse it before numpy allocates it
+        check_budget(TENSOR_ELEMENTS, tensor_elements(p.shape[:-2]) * self._layout_elements, UNKNOWN_SPAN,
+                     f"the numeric array of the {what}", "evaluate a vertex with fewer legs or smaller groups")
+        with np.errstate(all="ignore"):  # an overflow is reported below, as our own error
+            result = self._compiled(*np.moveaxis(p, -2, 0), _values_for(self.model, values, what, self._value_cache))
+        check_finite(result, UNKNOWN_SPAN, f"the {what}")
+        return result
+
+    @cached_property
+    def _layout_elements(self) -> int:
+        dims = {(leg.position, g): d for leg in self.legs for g, _, d in leg.representations}
+        return tensor_elements(dims[(axis[1], axis[2])] if axis[0] == "group" else 4
+                               for leg in self.legs for axis in leg.axes)
+
+    def evaluate_contracted(self, momenta: Sequence[Sequence[float]], probes: Mapping[tuple, Any],
+                            values: Mapping[str, complex] | None = None) -> Any:
+        """The factor with every axis contracted with random vectors (`probes`, see
+        `numeric.evaluate_structure`): a few numbers instead of the array, which is how `check`
+        compares vertices too large to hold as arrays."""
+        import numpy as np
+
+        from .numeric import evaluate_structure
+
+        what = "vertex " + " ".join(self.labels)
+        p = np.asarray(momenta, dtype=complex)
+        numbers = _values_for(self.model, values, what, self._value_cache)
+        axes = [axis for leg in self.legs for axis in leg.axes]
+        ranks = {name: g.rank for name, g in self.model.groups.items()}
+        ranks.update({name: space.size for name, space in self.model.spaces.items()})  # index spaces too
+        dims = {(leg.position, g): d for leg in self.legs for g, _, d in leg.representations}
+        result = np.zeros(probes[("batch",)].shape, dtype=complex)
+        with np.errstate(all="ignore"):  # an overflow is reported below, as our own error
+            for term in self.terms:
+                own = {symbol: numbers[symbol.name] for symbol in term.coefficient.free_symbols}
+                c = complex(sympy.N(term.coefficient.subs(own) if own else term.coefficient))
+                result = result + c * evaluate_structure(term.structure, axes, p, self.model.conventions.eps0123,
+                                                         ranks, dims, arrays=numbers, probes=probes)
+        check_finite(result, UNKNOWN_SPAN, f"the {what}")
+        return result
 
     @cached_property
     def _value_cache(self) -> dict[tuple, _Values]:

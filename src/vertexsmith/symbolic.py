@@ -23,6 +23,7 @@ import sympy
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
+from .errors import UNKNOWN_SPAN
 from .structures import (Chain as ChainStruct, Chiral, Dot as DotStruct, Dummy, Epsilon, Gamma as GammaStruct,
                          Generator as GeneratorStruct, GroupAlternating as GroupAlternatingStruct,
                          GroupDelta as GroupDeltaStruct, GroupDummy, LegGroupIndex,
@@ -421,11 +422,25 @@ class _LatexPrinter(LatexPrinter):
 
 
 def to_latex(expr: sympy.Expr, order: str | None = None) -> str:
-    """LaTeX of a factor: our objects, index names, and model names by `name_latex`."""
+    """LaTeX of a factor: our objects, index names, and model names by `name_latex`.
+
+    Within the budgets: the printer's time grows with the tree, so its size is checked first, and
+    the length of what it wrote after."""
+    from .errors import DerivationError
+    from .limits import EXPRESSION_NODES, LATEX_CHARACTERS, expression_nodes, over_budget
+
+    if expression_nodes(expr) > EXPRESSION_NODES.limit:
+        raise over_budget(EXPRESSION_NODES, f"more than {EXPRESSION_NODES.limit:,}", UNKNOWN_SPAN,
+                          "a factor printed as LaTeX", "use the JSON or text output for so large a factor",
+                          DerivationError)
     settings: dict[str, Any] = {"symbol_names": {**_symbol_names(expr), **LATEX_NAMES}}
     if order is not None:
         settings["order"] = order
-    return str(_LatexPrinter(settings).doprint(expr))
+    text = str(_LatexPrinter(settings).doprint(expr))
+    if len(text) > LATEX_CHARACTERS.limit:
+        raise over_budget(LATEX_CHARACTERS, len(text), UNKNOWN_SPAN, "a factor printed as LaTeX",
+                          "use the JSON or text output for so large a factor", DerivationError)
+    return text
 
 
 # names the engine makes: leg indices mu3, momenta p2, propagator p, mu, nu, gauge parameters xi_<boson>
