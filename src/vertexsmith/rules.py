@@ -298,8 +298,9 @@ class Vertex:
 
         what = "vertex " + " ".join(self.labels)
         p = _batch(momenta, len(self.legs), what)
-        # the array's size is known from the legs: refuse it before numpy allocates it
-        check_budget(TENSOR_ELEMENTS, tensor_elements(p.shape[:-2]) * self._layout_elements, UNKNOWN_SPAN,
+        # the array's size per point is known from the legs: refuse it before numpy allocates it (a
+        # batch of points is the caller's own choice of size)
+        check_budget(TENSOR_ELEMENTS, self._layout_elements, UNKNOWN_SPAN,
                      f"the numeric array of the {what}", "evaluate a vertex with fewer legs or smaller groups")
         with np.errstate(all="ignore"):  # an overflow is reported below, as our own error
             result = self._compiled(*np.moveaxis(p, -2, 0), _values_for(self.model, values, what, self._value_cache))
