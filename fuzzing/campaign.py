@@ -101,27 +101,27 @@ def campaign(seeds: list[int], cases: int, seconds: float, memory_mb: int, minut
     with tempfile.TemporaryDirectory(prefix="vsfuzz.") as scratch:
         worker = Worker(Path(scratch), seconds=seconds, memory=memory_mb * 2 ** 20)
         try:
-            for seed in seeds:
-                per_seed[seed] = 0
-                for index in range(cases):
-                    if time.monotonic() > stop_at:
-                        break
-                    case = make_case(seed, index, bases)
-                    outcome = worker.run(case)
-                    counts[outcome.kind] += 1
-                    per_seed[seed] += 1
-                    slowest = max(slowest, outcome.seconds)
-                    key = (outcome.kind, outcome.signature)
-                    if outcome.kind in FAILURES and key not in failures:
-                        small = shrink(case, outcome, worker.run, shrink_seconds)
-                        failures[key] = str(save(small, outcome, found))
-                        if not quiet:
-                            print(f"[{seed}:{index}] {outcome.kind}: {outcome.signature} -> {failures[key]}",
-                                  flush=True)
-                    total = sum(counts.values())
-                    if not quiet and total % 500 == 0:
-                        rate = total / (time.monotonic() - start)
-                        print(f"{total} cases, {rate:.1f}/s, {dict(counts)}", flush=True)
+            per_seed.update({seed: 0 for seed in seeds})
+            # seeds take turns, so that a run stopped by --minutes has covered all of them alike
+            for index, seed in ((i, s) for i in range(cases) for s in seeds):
+                if time.monotonic() > stop_at:
+                    break
+                case = make_case(seed, index, bases)
+                outcome = worker.run(case)
+                counts[outcome.kind] += 1
+                per_seed[seed] += 1
+                slowest = max(slowest, outcome.seconds)
+                key = (outcome.kind, outcome.signature)
+                if outcome.kind in FAILURES and key not in failures:
+                    small = shrink(case, outcome, worker.run, shrink_seconds)
+                    failures[key] = str(save(small, outcome, found))
+                    if not quiet:
+                        print(f"[{seed}:{index}] {outcome.kind}: {outcome.signature} -> {failures[key]}",
+                              flush=True)
+                total = sum(counts.values())
+                if not quiet and total % 500 == 0:
+                    rate = total / (time.monotonic() - start)
+                    print(f"{total} cases, {rate:.1f}/s, {dict(counts)}", flush=True)
         finally:
             worker.stop()
     elapsed = time.monotonic() - start

@@ -237,7 +237,8 @@ COMMANDS: list[tuple[tuple[str, ...], int]] = [
 ]
 
 
-def make_case(seed: int, index: int, bases: Sequence[tuple[str, str]]) -> Case:
+def make_case(seed: int, index: int, bases: Sequence[tuple[str, str]],
+              commands: Sequence[tuple[tuple[str, ...], int]] = COMMANDS) -> Case:
     """The case number `index` of the campaign with this seed: a base model, 1-3 mutations, a command."""
     rng = random.Random(f"{seed}:{index}")
     base_name, text = rng.choice(list(bases))
@@ -247,5 +248,5 @@ def make_case(seed: int, index: int, bases: Sequence[tuple[str, str]]) -> Case:
         name = rng.choices(names, [WEIGHTS[n] for n in names])[0]
         text = MUTATIONS[name](text, rng)
         recipe.append(name)
-    command = rng.choices([c for c, _ in COMMANDS], [w for _, w in COMMANDS])[0]
+    command = rng.choices([c for c, _ in commands], [w for _, w in commands])[0]
     return Case(seed, index, base_name, text, command, tuple(recipe))

@@ -16,11 +16,13 @@ that one hang cannot stall a campaign.
 from __future__ import annotations
 
 import contextlib
+import faulthandler
 import io
 import multiprocessing
 import os
 import re
 import resource
+import signal
 import time
 import warnings
 from dataclasses import dataclass, replace
@@ -147,7 +149,8 @@ def _rss_bytes(pid: int) -> int:
 def _serve(connection: "multiprocessing.connection.Connection", folder: str, address_limit: int) -> None:
     if address_limit:
         resource.setrlimit(resource.RLIMIT_AS, (address_limit, address_limit))
-    os.nice(0)
+    # on SIGUSR1 the stack goes to a file: the parent asks for it before killing a hung case
+    faulthandler.register(signal.SIGUSR1, file=open(Path(folder) / "stack.txt", "w"), all_threads=False)
     while True:
         case = connection.recv()
         if case is None:
@@ -191,8 +194,10 @@ class Worker:
             rss = _rss_bytes(self._process.pid)
             peak = max(peak, rss)
             if elapsed > self.seconds:
+                where = self._stack()
                 self.stop()
-                return Outcome("hang", f"over {self.seconds:g} s", -1, elapsed, (peak - self._baseline) / 2 ** 20)
+                return Outcome("hang", f"over {self.seconds:g} s in {where}", -1, elapsed,
+                               (peak - self._baseline) / 2 ** 20)
             if rss - self._baseline > self.memory:
                 self.stop()
                 return Outcome("memory", f"over {self.memory // 2 ** 20} MB", -1, elapsed, rss / 2 ** 20)
@@ -209,6 +214,20 @@ class Worker:
         if _rss_bytes(self._process.pid) - self._baseline > self.memory // 2:
             self.stop()
         return replace(outcome, megabytes=round(max(0, peak - self._baseline) / 2 ** 20, 1))
+
+    def _stack(self) -> str:
+        """The innermost function of vertexsmith the hung worker is in (its stack, read via SIGUSR1)."""
+        assert self._process is not None and self._process.pid is not None
+        stack = self.folder / "stack.txt"
+        try:
+            os.kill(self._process.pid, signal.SIGUSR1)
+            time.sleep(0.3)
+            rows = stack.read_text(errors="replace").splitlines()
+        except OSError:
+            return "?"
+        frames = [re.search(r'vertexsmith/(\S+)", line \d+ in (\S+)', row) for row in rows]
+        named = [f"{m.group(1)}:{m.group(2)}" for m in frames if m]
+        return named[0] if named else "?"
 
     def stop(self) -> None:
         if self._process is not None:

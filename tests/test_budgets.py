@@ -174,3 +174,19 @@ def test_the_numeric_array_budget_refuses_before_allocating() -> None:
     vertex = vs.load_model(text=text, name="g.vsm").derive().vertex("G", "G", "G", "G")
     with pytest.raises(vs.DerivationError, match="numbers in one numeric tensor"):
         vertex.evaluate(np.zeros((4, 4)))  # (4 x 99)^4 = 2.4e10 numbers: refused, not allocated
+
+
+def test_bar_of_a_field_called_d_with_an_index_is_explained() -> None:
+    # `d[i]` is the derivative even when a fermion is called d (qcd.vsm's down quark): say so, no assertion
+    text = vs.example("qcd").read_text(encoding="utf-8") + "  bar(d[i]) d\n"
+    with pytest.raises(vs.ModelMeaningError) as info:
+        vs.load_model(text=text, name="q.vsm")
+    assert info.value.message == "'d[...]' inside bar() reads as the derivative d[...], not the field 'd'"
+    assert info.value.hint.startswith("write bar(d)")
+
+
+def test_a_squared_dot_product_prints_as_latex() -> None:
+    # (p1.p2)^2 reached sympy's printer as a power of our Dot, whose LaTeX method took no exponent
+    text = HEAD + "  c d[mu] d[nu] phi d[mu] d[nu] phi phi^2\n"
+    vertex = vs.load_model(text=text, name="d.vsm").derive().vertex("phi", "phi", "phi", "phi")
+    assert r"\left(p_{1} \cdot p_{2}\right)^{2}" in vertex.latex

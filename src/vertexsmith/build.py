@@ -645,6 +645,16 @@ class _Builder:
                                     f"not {len(node.indices)}", span, f"write {examples[base]}")
         return m.LGroup(base, group, tuple(i.name for i in node.indices), node.span)
 
+    def _field_inside(self, arg: sx.Symbol, node: sx.Call) -> m.LField:
+        """The field written inside bar() or dag(); `d[i]` there is the derivative, not a field called d."""
+        inner = self._symbol(arg)
+        if not isinstance(inner, m.LField):
+            raise ModelMeaningError(f"'{arg.name}[...]' inside {node.function}() reads as the derivative "
+                                    f"{arg.name}[...], not the field '{arg.name}'", arg.span,
+                                    f"write {node.function}({arg.name}) and let its group index be implied, "
+                                    f"or give the field another name")
+        return inner
+
     def _call(self, node: sx.Call) -> m.LNode:
         arg = node.argument
         while isinstance(arg, sx.Group):
@@ -657,8 +667,7 @@ class _Builder:
                 raise ModelMeaningError(f"bar() of the {f.kind} '{f.name}': only fermions have a Dirac adjoint",
                                         node.span, f"for a boson write dag({f.name})" if f.is_complex
                                         else f"'{f.name}' is real: write {f.name}")
-            inner = self._symbol(arg)
-            assert isinstance(inner, m.LField)
+            inner = self._field_inside(arg, node)
             return m.LField(f.name, True, None, node.span, inner.group_indices)
         if node.function == "dag":
             if isinstance(arg, sx.Symbol) and arg.name in self.fields:
@@ -669,8 +678,7 @@ class _Builder:
                 if not f.is_complex:
                     raise ModelMeaningError(f"dag() of the real field '{f.name}' is the field itself", node.span,
                                             f"write {f.name}, or declare it complex")
-                inner = self._symbol(arg)
-                assert isinstance(inner, m.LField)
+                inner = self._field_inside(arg, node)
                 return m.LField(f.name, True, inner.index, node.span, inner.group_indices)
             for s in _walk(arg):
                 if isinstance(s, sx.Call) and s.function == "bar":

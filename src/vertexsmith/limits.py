@@ -250,7 +250,8 @@ def factor_within_budget(expr: "sympy.Expr") -> "sympy.Expr":
     """sympy.factor where it is cheap; common factors only (factor_terms) where it is not.
 
     Multivariate factorisation recurses over the symbols and works on the degree: a coefficient
-    with hundreds of couplings overflows Python's stack, and `24 lam^299 - 1` takes minutes. Both
+    with hundreds of couplings overflows Python's stack, `24 lam^299 - 1` takes minutes, and so do
+    coefficients of 300 digits (an exact 1e-300). Both
     forms are equal, so the result stays right; only its shape is plainer for such coefficients.
     """
     import sympy
@@ -258,7 +259,10 @@ def factor_within_budget(expr: "sympy.Expr") -> "sympy.Expr":
     expanded = sympy.expand(expr)
     terms = expanded.args if isinstance(expanded, sympy.Add) else (expanded,)
     degree = max((abs(p.exp) for p in expanded.atoms(sympy.Pow) if p.exp.is_Rational), default=0)
-    if len(terms) > _FACTOR_TERMS or len(expanded.free_symbols) > _FACTOR_SYMBOLS or degree > 12:
+    digits = max([digits_of(r) for r in expanded.atoms(sympy.Rational)]
+                 + [abs(_log10_size(f) or 0) for f in expanded.atoms(sympy.Float)], default=0)
+    if (len(terms) > _FACTOR_TERMS or len(expanded.free_symbols) > _FACTOR_SYMBOLS or degree > 12
+            or digits > EXACT_DIGITS.limit):  # factoring with numbers like 1e-300 takes minutes
         return sympy.factor_terms(expanded)
     return sympy.factor(expr)
 

@@ -266,6 +266,26 @@ NAMESPACE: dict[str, Any] = {"dot": Dot, "slash": Slash, "chain": Chain, "conj":
                              "gamma5": Gamma5, "PL": ProjL, "PR": ProjR, "I": sympy.I, "pi": sympy.pi}
 
 
+def _with_powers(cls: type) -> None:
+    """Let sympy's LaTeX printer raise one of our objects to a power: it calls _latex(printer, exp=...)
+    for a function in a power (p1.p2 squared), which our plain _latex methods did not take."""
+    plain = cls._latex
+
+    def _latex(self: Any, printer: LatexPrinter, exp: str | None = None) -> str:
+        text = plain(self, printer)
+        if exp is None:
+            return text
+        bracketed = text.startswith("\\left(") and text.endswith("\\right)")
+        return (text if bracketed else f"\\left({text}\\right)") + f"^{{{exp}}}"
+
+    cls._latex = _latex
+
+
+for _own_class in (Metric, FourVector, Dot, LeviCivita, Gamma, Slash, Sigma, Chain, StructureConstant, Generator,
+                   GroupDelta, GroupAlternating):
+    _with_powers(_own_class)
+
+
 class _TextPrinter(StrPrinter):
     """sympy's string printer speaking the model language: x^2 and conj(y) rather than x**2, conjugate(y)."""
 
