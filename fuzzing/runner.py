@@ -9,7 +9,8 @@ error is not the file's line, or the position lies outside the file) and `unloca
 about the model that names no place in it).
 
 `run_case` does the work in the calling process; `Worker` runs cases one after the other in a
-forked child under a time and memory limit, killing and replacing it when a case overruns, so
+forked child under a time limit (CPU seconds of the child, so that a loaded machine does not make
+slow cases look hung) and a memory limit, killing and replacing it when a case overruns, so
 that one hang cannot stall a campaign.
 """
 
@@ -135,6 +136,16 @@ def run_case(case: Case, folder: Path) -> Outcome:
 
 # ------------------------------------------------------------------ the forked worker
 
+def _cpu_seconds(pid: int) -> float:
+    """User and system CPU time of a process so far: the measure of a hang on a shared, loaded machine."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii") as stat:
+            fields = stat.read().rsplit(")", 1)[1].split()
+        return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
+    except (OSError, IndexError, ValueError):
+        return 0.0
+
+
 def _rss_bytes(pid: int) -> int:
     try:
         with open(f"/proc/{pid}/status", encoding="ascii") as status:
@@ -188,12 +199,14 @@ class Worker:
             self._baseline = _rss_bytes(self._process.pid)
         self._connection.send(case)
         start = time.perf_counter()
+        cpu_start = _cpu_seconds(self._process.pid)
         peak = 0
         while not self._connection.poll(0.02):
             elapsed = time.perf_counter() - start
             rss = _rss_bytes(self._process.pid)
             peak = max(peak, rss)
-            if elapsed > self.seconds:
+            # the limit is on CPU time (others share the machine), with wall time as a backstop
+            if _cpu_seconds(self._process.pid) - cpu_start > self.seconds or elapsed > 6 * self.seconds:
                 where = self._stack()
                 self.stop()
                 return Outcome("hang", f"over {self.seconds:g} s in {where}", -1, elapsed,

@@ -299,3 +299,29 @@ def check_tokens(text: str, source: "Source") -> None:
             span = Span.point(before.count("\n") + 1, match.start() - before.rfind("\n"))
             raise over_budget(TOKENS, f"more than {TOKENS.limit:,}", span, "the model file",
                               "split the model, or write repeated terms once", ModelSyntaxError).with_source(source)
+
+
+def check_nesting(text: str, source: Source) -> None:
+    """Refuse brackets nested deeper than the budget, at the first bracket past it (before parsing)."""
+    depth, line, column = 0, 1, 0
+    in_string = in_comment = False
+    for char in text:
+        column += 1
+        if char == "\n":
+            line, column, in_string, in_comment = line + 1, 0, False, False
+        elif in_comment:
+            continue
+        elif char == '"':
+            in_string = not in_string
+        elif in_string:
+            continue
+        elif char == "#":
+            in_comment = True
+        elif char in "([":
+            depth += 1
+            if depth > NESTING.limit:
+                raise over_budget(NESTING, depth, Span.point(line, column), "this bracket",
+                                  "write the expression with fewer brackets, or split it with a definition",
+                                  ModelSyntaxError).with_source(source)
+        elif char in ")]":
+            depth = max(0, depth - 1)

@@ -634,36 +634,10 @@ def _flatten_chains(tree: Tree) -> Tree:
     return tree
 
 
-def _check_nesting(text: str, source: Source) -> None:
-    """Refuse brackets nested deeper than the budget, at the first bracket past it (before parsing)."""
-    depth, line, column = 0, 1, 0
-    in_string = in_comment = False
-    for char in text:
-        column += 1
-        if char == "\n":
-            line, column, in_string, in_comment = line + 1, 0, False, False
-        elif in_comment:
-            continue
-        elif char == '"':
-            in_string = not in_string
-        elif in_string:
-            continue
-        elif char == "#":
-            in_comment = True
-        elif char in "([":
-            depth += 1
-            if depth > limits.NESTING.limit:
-                raise limits.over_budget(limits.NESTING, depth, Span.point(line, column),
-                                         "this bracket", "write the expression with fewer brackets, or "
-                                         "split it with a definition", ModelSyntaxError).with_source(source)
-        elif char in ")]":
-            depth = max(0, depth - 1)
-
-
 def _read(text: str, source: Source, language: _Language) -> Any:
     """Parse and transform `text`; every failure becomes one of our errors, carrying `source`."""
     padded = text if text.endswith("\n") else text + "\n"
-    _check_nesting(padded, source)
+    limits.check_nesting(padded, source)
     try:
         return language.transformer().transform(_flatten_chains(_parser(language).parse(padded)))
     except VisitError as exc:
