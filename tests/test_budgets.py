@@ -88,7 +88,8 @@ def test_every_budget_is_in_the_readme_limits_table() -> None:
     ("1/0", "division by zero: the denominator is 0", 18),
     ("tan(pi/2)", "tan() of this argument has no finite value", 16),
     ("1e300*1e300", "this product is about 1e600", 16),
-], ids=["log-zero", "exp-710", "division-by-zero", "tan-pole", "product-overflow"])
+    ("exp(-1000)", "exp() of this argument is about 1e-434", 16),
+], ids=["log-zero", "exp-710", "division-by-zero", "tan-pole", "product-overflow", "exp-underflow"])
 def test_numbers_without_a_value_say_why_at_the_value(value: str, message: str, column: int) -> None:
     error = _error(HEAD.replace("c = 0.5", f"c = {value}"))
     assert message in error.message

@@ -155,8 +155,8 @@ def check_magnitude(value: "sympy.Expr", span: Span, subject: str, error: type[V
         raise error(f"{subject} has no finite value (it is infinite or undefined)", span,
                     "check the arguments of its functions and divisions")
     size = _log10_size(value)
-    if size is not None and size > MAGNITUDE.limit:
-        raise error(f"{subject} is about 1e{size:.0f}, beyond the values a number may have (1e{MAGNITUDE.limit}; "
+    if size is not None and abs(size) > MAGNITUDE.limit and size != -math.inf:
+        raise error(f"{subject} is about 1e{size:.0f}, beyond the values a number may have (1e±{MAGNITUDE.limit}; "
                     f"{MAGNITUDE.why})", span, "write the value in sensible units (a parameter of size about 1)")
     if value.is_Rational and digits_of(value) > EXACT_DIGITS.limit:
         raise over_budget(EXACT_DIGITS, digits_of(value), span, subject,
@@ -260,7 +260,8 @@ def factor_within_budget(expr: "sympy.Expr") -> "sympy.Expr":
     terms = expanded.args if isinstance(expanded, sympy.Add) else (expanded,)
     degree = max((abs(p.exp) for p in expanded.atoms(sympy.Pow) if p.exp.is_Rational), default=0)
     digits = max([digits_of(r) for r in expanded.atoms(sympy.Rational)]
-                 + [abs(_log10_size(f) or 0) for f in expanded.atoms(sympy.Float)], default=0)
+                 + [abs(_log10_size(f) or 0) for f in expanded.atoms(sympy.Float, sympy.exp) if f.is_number],
+                 default=0)
     if (len(terms) > _FACTOR_TERMS or len(expanded.free_symbols) > _FACTOR_SYMBOLS or degree > 12
             or digits > EXACT_DIGITS.limit):  # factoring with numbers like 1e-300 takes minutes
         return sympy.factor_terms(expanded)
