@@ -210,8 +210,9 @@ def hostile(text: str, rng: random.Random) -> str:
         depth = rng.choice([50, 500, 5000, 100000])
         return text + "  " + "(" * depth + "1" + ")" * depth + "\n"
     if op == 1:
-        return text + f"  - {rng.choice(_parameters(text) or ['1'])}^{rng.choice(['1000000000', '(10^10)', '99999'])} " \
-                      f"{rng.choice(_fields(text) or [('', 'x')])[1]}^2\n"
+        name = rng.choice(_parameters(text) or ['1'])
+        power = rng.choice(['1000000000', '(10^10)', '99999'])
+        return text + f"  - {name}^{power} {rng.choice(_fields(text) or [('', 'x')])[1]}^2\n"
     if op == 2:
         return text + "  " + " + ".join(["1"] * rng.choice([1000, 10000])) + "\n"
     if op == 3:

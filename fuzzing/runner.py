@@ -206,11 +206,13 @@ class Worker:
             rss = _rss_bytes(self._process.pid)
             peak = max(peak, rss)
             # the limit is on CPU time (others share the machine), with wall time as a backstop
-            if _cpu_seconds(self._process.pid) - cpu_start > self.seconds or elapsed > 6 * self.seconds:
+            cpu = _cpu_seconds(self._process.pid) - cpu_start
+            if cpu > self.seconds or elapsed > 6 * self.seconds:
                 where = self._stack()
                 self.stop()
-                return Outcome("hang", f"over {self.seconds:g} s in {where}", -1, elapsed,
-                               (peak - self._baseline) / 2 ** 20)
+                what = (f"over {self.seconds:g} CPU s" if cpu > self.seconds
+                        else f"over {6 * self.seconds:g} s of wall time")
+                return Outcome("hang", f"{what} in {where}", -1, elapsed, (peak - self._baseline) / 2 ** 20)
             if rss - self._baseline > self.memory:
                 self.stop()
                 return Outcome("memory", f"over {self.memory // 2 ** 20} MB", -1, elapsed, rss / 2 ** 20)

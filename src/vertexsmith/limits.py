@@ -68,7 +68,8 @@ LATEX_CHARACTERS = Budget("characters of LaTeX for one factor", 200_000,
 EXPRESSION_NODES = Budget("size of one symbolic factor (nodes of its expression tree)", 20_000,
                           "printing or simplifying a larger formula takes more than seconds")
 
-ALL = (MODEL_BYTES, HAND_RULES_BYTES, TOKENS, LAGRANGIAN_LINES, NESTING, NUMBER_DIGITS, NUMBER_EXPONENT, EXACT_DIGITS, MAGNITUDE, POWER,
+ALL = (MODEL_BYTES, HAND_RULES_BYTES, TOKENS, LAGRANGIAN_LINES, NESTING, NUMBER_DIGITS, NUMBER_EXPONENT, EXACT_DIGITS,
+       MAGNITUDE, POWER,
        FIELD_POWER, GROUP_RANK, LEGS, ASSIGNMENTS, VERTEX_ASSIGNMENTS, TERMS_PER_LINE, MONOMIALS, TERMS_PER_VERTEX,
        TENSOR_ELEMENTS, LATEX_CHARACTERS, EXPRESSION_NODES, EXPANDED_TERMS, PRODUCT_FACTORS)
 
@@ -273,7 +274,8 @@ def check_coefficient(expr: "sympy.Expr", span: Span) -> None:
     import sympy
 
     if expression_nodes(expr) > EXPRESSION_NODES.limit:
-        raise over_budget(EXPRESSION_NODES, f"more than {EXPRESSION_NODES.limit:,}", span, "the coefficient of this term")
+        raise over_budget(EXPRESSION_NODES, f"more than {EXPRESSION_NODES.limit:,}", span,
+                          "the coefficient of this term")
     for power in expr.atoms(sympy.Pow):
         if power.exp.is_Rational and abs(power.exp) > POWER.limit and not power.base.is_number:
             raise over_budget(POWER, _short(power.exp), span, f"the power {_short(power.base)}^{_short(power.exp)}",
