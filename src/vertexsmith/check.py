@@ -49,6 +49,7 @@ from .invariance import find_violations, operator_dimension, show_net_charges
 from .quadratic import QuadraticForm, quadratic_form
 from .rules import P2, Vertex, VertexTerm
 from .spaces import random_array
+from .values import substitute_definitions
 
 SEVERITIES = ("error", "warning", "note")
 
@@ -381,18 +382,25 @@ class _Checker:
                          kinetic_span, f"write {_kinetic_text(self.model, f)}, or rescale the field")
         self.check_mass(f, c2, c0, mass_span)
 
+    def _same_value(self, a: sympy.Expr, b: sympy.Expr) -> bool:
+        """Whether two expressions agree once every parameter defined by a formula is replaced by it."""
+        return (sympy.simplify(a - b) == 0
+                or sympy.simplify(substitute_definitions(self.model.parameters, a - b)) == 0)
+
     def check_mass(self, f: m.Field, c2: sympy.Expr, c0: sympy.Expr, mass_span: Span | None) -> None:
         declared = f.mass
         span = mass_span or f.span
         mass_text = _mass_text(self.model, f)
+        # a mass declared through a formula (mA = g v) agrees with terms written in its inputs (g^2 v^2 A A)
+        same = self._same_value
         if f.is_fermion:
             found = sympy.simplify(-c0 / c2)
-            if sympy.simplify(found - declared) == 0:
+            if same(found, declared):
                 return
             what = f"mass {_show(found)}"
         else:
             found = sympy.simplify(-c0 / c2)
-            if sympy.simplify(found - declared**2) == 0:
+            if same(found, declared**2):
                 return
             what = f"mass^2 = {_show(found)}"
             if found != 0 and found.is_nonpositive:  # the field sits at a maximum of its potential

@@ -29,6 +29,7 @@ from .errors import DerivationError, Span
 from .expand import Monomial
 from .rules import P2
 from .structures import Chiral, Dot, Gamma, GroupDelta, Metric, Momentum, Sigma, Vector
+from .values import substitute_definitions
 
 Pair = tuple[str, str]
 Entry = Mapping[str, sympy.Expr]
@@ -142,9 +143,11 @@ def read_entry(model: m.Model, legs: Sequence[Species], monomials: Iterable[Mono
     return {k: v for k, v in ((k, sympy.expand(v)) for k, v in entry.items()) if v != 0}
 
 
-def _vanishes(entry: dict[str, sympy.Expr]) -> dict[str, sympy.Expr]:
-    """The entry with coefficients that simplify to zero removed (expand missed trigonometry, roots)."""
-    return {k: v for k, v in entry.items() if sympy.simplify(v) != 0}
+def _vanishes(model: m.Model, entry: dict[str, sympy.Expr]) -> dict[str, sympy.Expr]:
+    """The entry with coefficients that simplify to zero removed (expand missed trigonometry, roots, and
+    parameters defined by formulas: mA G d.A cancels g v A.dG when mA = g v)."""
+    return {k: v for k, v in entry.items()
+            if sympy.simplify(v) != 0 and sympy.simplify(substitute_definitions(model.parameters, v)) != 0}
 
 
 # ------------------------------------------------------------------ the whole form
@@ -185,7 +188,7 @@ def quadratic_form(model: m.Model, monomials: Iterable[Monomial]) -> QuadraticFo
         for legs in leg_orders:
             entry = read_entry(model, legs, monos)
             if legs[0][0] != legs[1][0] or problem:
-                entry = _vanishes(entry)
+                entry = _vanishes(model, entry)
             if not entry:
                 continue
             pair = (legs[0][0], legs[1][0])

@@ -20,6 +20,22 @@ if TYPE_CHECKING:
     from .model import GaugeGroup, Parameter
 
 
+def substitute_definitions(parameters: Mapping[str, "Parameter"], expr: sympy.Expr) -> sympy.Expr:
+    """expr with every parameter defined by a formula (mA = g v) replaced by that formula, to the bottom.
+
+    For judging whether two expressions agree (a declared mass and the one the terms give) or whether a
+    sum vanishes (a mixing cancelled by a gauge-fixing term written with mA); the rules themselves keep
+    the names the model uses.
+    """
+    definitions = {p.symbol: p.definition for p in parameters.values()
+                   if isinstance(p.definition, sympy.Expr) and not p.definition.is_number}
+    for _ in range(len(definitions)):  # definitions may refer to definitions, never in a circle
+        if not expr.free_symbols & definitions.keys():
+            break
+        expr = expr.xreplace(definitions)
+    return expr
+
+
 def resolve_values_from(parameters: Mapping[str, "Parameter"],
                         overrides: Mapping[str, complex]) -> dict[sympy.Symbol, complex]:
     """Numeric values for every parameter that has one, definitions evaluated in order."""
