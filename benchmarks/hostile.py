@@ -31,7 +31,7 @@ def main() -> int:
         try:
             for name in HOSTILE:
                 outcome = worker.run(hostile_case(name, lazy=True))
-                fine = outcome.kind == "located" and outcome.seconds < 10 and outcome.megabytes < 500
+                fine = outcome.kind in ("located", "ok") and outcome.seconds < 10 and outcome.megabytes < 500
                 bad += not fine
                 print(f"{name:<28} {outcome.kind:<10} {outcome.seconds:8.2f} {outcome.megabytes:7.1f}"
                       f"{'' if fine else '   <-- ' + outcome.signature}", flush=True)
