@@ -92,7 +92,7 @@ fields
 lagrangian
   1/2 bar(chi1) (I gamma[mu] d[mu] - m1) chi1
   1/2 bar(chi2) (I gamma[mu] d[mu] - m2) chi2
-  - 1/4 d[mu] Z[nu] d[mu] Z[nu] + 1/4 d[mu] Z[nu] d[nu] Z[mu] + 1/2 mz^2 Z[mu] Z[mu]
+  - 1/2 d[mu] Z[nu] d[mu] Z[nu] + 1/2 d[mu] Z[nu] d[nu] Z[mu] + 1/2 mz^2 Z[mu] Z[mu]
   Z[mu] bar(chi1) gamma[mu] (a + b gamma5) chi2 + Z[mu] bar(chi2) gamma[mu] (a + b gamma5) chi1
 """
 
@@ -290,3 +290,35 @@ def test_a_majorana_mass_matrix_over_an_index_space_asks_for_mass_eigenstates() 
                                   "index-space indices")
     assert "mass eigenstates" in info.value.hint
     assert (info.value.span.line, info.value.span.column) == (9, 3)
+
+
+MAJORANA_VECTOR_MATRIX = """\
+theory mv "a Majorana pair with a hermitian vector coupling matrix (invented numbers)"
+spaces
+  dk 2
+parameters
+  mass m1 = 1.0
+  mass mz = 3.0
+  coupling complex hermitian A[dk,dk] = {{ 0.1, 0.2 + 0.3 I }, { 0.2 - 0.3 I, 0.5 }} "invented"
+fields
+  majorana chi over dk mass m1
+  vector Z mass mz
+lagrangian
+  1/2 bar(chi[i]) (I gamma[mu] d[mu] - m1) chi[i]
+  - 1/2 d[mu] Z[nu] d[mu] Z[nu] + 1/2 d[mu] Z[nu] d[nu] Z[mu] + 1/2 mz^2 Z[mu] Z[mu]
+  Z[mu] bar(chi[i]) gamma[mu] A[i,j] chi[j]
+"""
+
+
+def test_a_majorana_vector_matrix_keeps_its_antisymmetric_part_and_prints_its_sign(dirac) -> None:
+    """Z chibar_i gamma^mu A_ij chi_j with chibar_j gamma chi_i = -chibar_i gamma chi_j (Denner et al.,
+    NPB 387 (1992) 467, from memory): vertex (bar(chi)_i, chi_j, Z) = i (A_ij - A_ji) gamma^mu, and for a
+    hermitian A that is -2 Im(A_ij) gamma^mu, zero on the diagonal. The second term used to be shown as
+    "i A[dk2,dk1] -gamma" (in LaTeX "i A \\, - \\gamma"), which reads as a difference."""
+    rules = vs.load_model(text=MAJORANA_VECTOR_MATRIX, name="mv.vsm").derive(gauge="unitary")
+    a = np.array([[0.1, 0.2 + 0.3j], [0.2 - 0.3j, 0.5]])
+    vertex = rules.vertex("bar(chi)", "chi", "Z")
+    expected = 1j * np.einsum("ij,mst->sitjm", a - a.T, dirac.GAMMA)
+    assert np.allclose(vertex.evaluate(np.zeros((3, 4))), expected)
+    assert [str(part.coupling) for part in vertex.parts] == ["I", "-I"]
+    assert "\\, - \\gamma" not in vertex.latex and "*(-gamma" not in vertex.text

@@ -231,9 +231,12 @@ class Vertex:
             for ratio, t in members:
                 by_group.setdefault(t.structure.group, []).append((ratio, t))
             for group_part, items in by_group.items():
-                lorentz = sympy.Add(*[ratio * lorentz_to_sympy(t.structure, wrap) for ratio, t in items])
+                # a structure whose every ratio is negative takes the sign into its coupling, so that it is
+                # never printed as "i A -gamma" (read as a difference in the table and in LaTeX)
+                sign = -1 if all(ratio < 0 for ratio, _ in items) else 1
+                lorentz = sympy.Add(*[sign * ratio * lorentz_to_sympy(t.structure, wrap) for ratio, t in items])
                 group = group_to_sympy(group_part, names)
-                out.append(CouplingPart(base, lorentz, group, tuple(t for _, t in items)))
+                out.append(CouplingPart(sign * base, lorentz, group, tuple(t for _, t in items)))
         return tuple(out)
 
     def _index_names(self) -> dict[tuple[int, str], str]:
