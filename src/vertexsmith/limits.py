@@ -35,9 +35,9 @@ class Budget:
 
 MODEL_BYTES = Budget("bytes in a model file", 2_000_000, "larger files are generated text, not models")
 HAND_RULES_BYTES = Budget("bytes in a hand-rules file", 1_000_000, "larger files are generated text")
-TOKENS = Budget("words and symbols in a model file", 40_000,
+TOKENS = Budget("words and symbols in a model file", 100_000,
                 "reading more takes longer than a user waits; a model this long is generated text")
-LAGRANGIAN_LINES = Budget("terms (lines) in the Lagrangian", 1_000,
+LAGRANGIAN_LINES = Budget("terms (lines) in the Lagrangian", 5_000,
                           "deriving more takes longer than a user waits; gather repeated terms into one line")
 NESTING = Budget("brackets open at once", 100, "deeper nesting is generated text and exhausts the parser")
 NUMBER_DIGITS = Budget("digits in a number", 60, "no measured quantity has more")
@@ -56,7 +56,7 @@ ASSIGNMENTS = Budget("leg assignments of one monomial", 5_040,
 VERTEX_ASSIGNMENTS = Budget("leg assignments summed over the monomials of one vertex", 20_000,
                             "beyond it collecting the vertex's structures takes more than seconds")
 TERMS_PER_LINE = Budget("monomials from one Lagrangian line", 3_000, "deriving more takes longer than a user waits")
-MONOMIALS = Budget("monomials in the whole Lagrangian", 3_000, "deriving more takes longer than a user waits")
+MONOMIALS = Budget("monomials in the whole Lagrangian", 20_000, "deriving more takes longer than a user waits")
 EXPANDED_TERMS = Budget("terms of a coefficient once multiplied out", 5_000,
                         "multiplying out more takes minutes and gigabytes")
 PRODUCT_FACTORS = Budget("factors written in one product", 500, "a longer product is generated text")
