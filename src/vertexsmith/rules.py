@@ -15,15 +15,16 @@ from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 
 import sympy
 
+from .codegen import P2, compile_function, helper_namespace, vertex_function_source
 from .conventions import MIXING_TEXT
 from .errors import UNKNOWN_SPAN, DerivationError, Span, UsageError, did_you_mean
-from .codegen import P2, compile_function, helper_namespace, propagator_function_source, vertex_function_source
+from .evaluation_inputs import ParameterValues, momentum_batch, values_for
 from .fermion_flow import FERMION_FLOW_TEXT
+from .index_names import group_index_name, qualify_group_indices
+from .propagator import MU, NU, P, Propagator  # noqa: F401 - P, MU, NU: the propagator symbols, read from here too
 from .limits import TENSOR_ELEMENTS, check_budget, check_finite, tensor_elements
-from .propagator_latex import customary_propagator_latex
 from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
-from .symbolic import (factor_text, surely_symbolic, FourVector, GroupDelta, Metric, ProjL, ProjR, Slash, group_to_sympy, index_symbol, lorentz_to_sympy,
-                       momentum_symbol, to_latex)
+from .symbolic import (factor_text, surely_symbolic, group_to_sympy, index_symbol, lorentz_to_sympy, momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
     import numpy as np
@@ -77,7 +78,7 @@ class Leg:
             names.append(f"mu{self.position}")
         if self.kind in ("dirac", "majorana"):
             names.append(f"s{self.position}")
-        names.extend(group_index_name(self.position, group, rep, _qualify(self.representations))
+        names.extend(group_index_name(self.position, group, rep, qualify_group_indices(self.representations))
                      for group, rep, _ in self.representations)
         return tuple(names)
 
@@ -110,22 +111,6 @@ class Leg:
         return f"{name} in or out"
 
 
-def _qualify(representations: tuple[tuple[str, str, int], ...]) -> bool:
-    """Group index names carry their group when a leg has indices of several groups (spaces not counted)."""
-    return sum(rep != "flavour" for _, rep, _ in representations) > 1
-
-
-def group_index_name(position: int, group: str, representation: str, qualify: bool) -> str:
-    """a3 for an adjoint index of leg 3, i3 for a fundamental one; with several groups a3_color.
-
-    An index of an index space is named after the space: gen3.
-    """
-    if representation == "flavour":
-        return f"{group}{position}"
-    letter = "a" if representation == "adjoint" else "i"
-    return f"{letter}{position}_{group}" if qualify else f"{letter}{position}"
-
-
 @dataclass(frozen=True)
 class VertexTerm:
     """coefficient (sympy, the overall i included) x structure."""
@@ -151,49 +136,6 @@ class CouplingPart:
         writing rules out.
         """
         return to_latex(self.coupling), to_latex(self.lorentz), to_latex(self.group)
-
-
-class _Values(dict):
-    """Parameter values by name for the compiled functions; a missing one is the caller's to give."""
-
-    what = ""
-
-    def __missing__(self, name: str) -> complex:
-        raise UsageError(f"{self.what}: no value for {name}", hint=f"pass values={{'{name}': ...}}"
-                         + (" (the gauge parameter of R_xi gauge has no default)" if name.startswith("xi_") else ""))
-
-
-def _values_for(model: "Model", values: Mapping[str, complex] | None, what: str,
-                cache: dict[tuple, _Values] | None = None) -> _Values:
-    """The parameter values by name; `cache` (one per vertex or propagator) keeps the last few, since
-    resolving definitions through sympy costs a millisecond, more than evaluating a vertex."""
-    try:
-        key: tuple | None = tuple(sorted((str(k), complex(v)) for k, v in (values or {}).items()))
-    except (TypeError, ValueError):
-        key = None  # not numbers: parameter_values reports it
-    if cache is not None and key is not None and key in cache:
-        return cache[key]
-    resolved = _Values({s.name: v for s, v in model.parameter_values(dict(values or {})).items()})
-    resolved.what = what
-    if cache is not None and key is not None:
-        if len(cache) >= 32:
-            cache.pop(next(iter(cache)))
-        cache[key] = resolved
-    return resolved
-
-
-def _batch(momenta: Sequence[Sequence[float]] | np.ndarray, legs: int, what: str) -> np.ndarray:
-    """Momenta as a complex array of shape (..., legs, 4), checked."""
-    import numpy as np  # numbers only when asked for: deriving and printing rules need no numpy
-
-    try:
-        p = np.asarray(momenta, dtype=complex)
-    except (TypeError, ValueError):
-        raise UsageError(f"{what}: the momenta are not numbers") from None
-    if p.ndim < 2 or p.shape[-2:] != (legs, 4):
-        raise UsageError(f"evaluate() needs {legs} four-momenta (one per leg), got shape {p.shape}",
-                         hint=f"pass an array of shape ({legs}, 4), or (N, {legs}, 4) for a batch of N points")
-    return p
 
 
 @dataclass(frozen=True)
@@ -240,7 +182,7 @@ class Vertex:
         return tuple(out)
 
     def _index_names(self) -> dict[tuple[int, str], str]:
-        qualify = {leg.position: _qualify(leg.representations) for leg in self.legs}
+        qualify = {leg.position: qualify_group_indices(leg.representations) for leg in self.legs}
         return {(leg.position, g): group_index_name(leg.position, g, rep, qualify[leg.position])
                 for leg in self.legs for g, rep, _ in leg.representations}
 
@@ -300,13 +242,13 @@ class Vertex:
         import numpy as np
 
         what = "vertex " + " ".join(self.labels)
-        p = _batch(momenta, len(self.legs), what)
+        p = momentum_batch(momenta, len(self.legs), what)
         # the array's size per point is known from the legs: refuse it before numpy allocates it (a
         # batch of points is the caller's own choice of size)
         check_budget(TENSOR_ELEMENTS, self._layout_elements, UNKNOWN_SPAN,
                      f"the numeric array of the {what}", "evaluate a vertex with fewer legs or smaller groups")
         with np.errstate(all="ignore"):  # an overflow is reported below, as our own error
-            result = self._compiled(*np.moveaxis(p, -2, 0), _values_for(self.model, values, what, self._value_cache))
+            result = self._compiled(*np.moveaxis(p, -2, 0), values_for(self.model, values, what, self._value_cache))
         check_finite(result, UNKNOWN_SPAN, f"the {what}")
         return result
 
@@ -327,7 +269,7 @@ class Vertex:
 
         what = "vertex " + " ".join(self.labels)
         p = np.asarray(momenta, dtype=complex)
-        numbers = _values_for(self.model, values, what, self._value_cache)
+        numbers = values_for(self.model, values, what, self._value_cache)
         axes = [axis for leg in self.legs for axis in leg.axes]
         ranks = {name: g.rank for name, g in self.model.groups.items()}
         ranks.update({name: space.size for name, space in self.model.spaces.items()})  # index spaces too
@@ -343,7 +285,7 @@ class Vertex:
         return result
 
     @cached_property
-    def _value_cache(self) -> dict[tuple, _Values]:
+    def _value_cache(self) -> dict[tuple, ParameterValues]:
         return {}
 
     def reordered(self, order: Sequence[int]) -> "Vertex":
@@ -381,156 +323,6 @@ def _part_latex(part: CouplingPart) -> str:
     if part.coupling == -1:
         return "-" + lorentz
     return f"{coupling} \\, {lorentz}"
-
-
-P = sympy.Symbol("p", real=True)
-MU, NU = sympy.Symbol("mu"), sympy.Symbol("nu")
-
-
-@dataclass(frozen=True)
-class Propagator:
-    """i x inverse of the quadratic kernel of one field, momentum p along the particle arrow.
-
-    scalar: D = a(p2); Dirac: D = a(p2) p-slash + b(p2); vector: D^{mu nu} = a(p2) g^{mu nu} + b(p2) p^mu p^nu,
-    where p2 = p.p. Chiral Dirac entries: D = (cL PL + cR PR) p-slash (+ dL PL + dR PR with `chiral_mass`).
-    Where fields mix, each entry of the matrix i K^-1 over the block is one Propagator: `partner`
-    names the field at the conjugated end (None on the diagonal), see `propagate.py`.
-    """
-
-    field: str
-    kind: str
-    a: sympy.Expr
-    b: sympy.Expr
-    gauge: str
-    model: "Model" = dataclasses.field(compare=False, repr=False)
-    representations: tuple[tuple[str, str, int], ...] = ()
-    chiral: tuple[sympy.Expr, sympy.Expr] | None = None  # D = (cL PL + cR PR) pslash for chiral kinetic terms
-    partner: str | None = None  # an off-diagonal entry of a mixed block joins field to conj(partner)
-    chiral_mass: tuple[sympy.Expr, sympy.Expr] | None = None  # D also holds dL PL + dR PR (mixed chiral masses)
-
-    @property
-    def label(self) -> str:
-        """The field, or for an off-diagonal entry the two legs it joins: 'A X', 'H1 dag(H2)', 'u bar(t)'."""
-        if self.partner is None:
-            return self.field
-        partner = self.model.fields[self.partner]
-        if partner.is_fermion:
-            return f"{self.field} bar({self.partner})"
-        return f"{self.field} dag({self.partner})" if partner.is_complex else f"{self.field} {self.partner}"
-
-    @property
-    def momentum(self) -> str:
-        return "p"
-
-    @property
-    def indices(self) -> tuple[str, ...]:
-        names: tuple[str, ...] = {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
-        for group, rep, _ in self.representations:
-            if rep == "flavour":
-                names += (f"{group}1", f"{group}2")
-                continue
-            letter = "a" if rep == "adjoint" else "i"
-            suffix = f"_{group}" if _qualify(self.representations) else ""
-            names += (f"{letter}1{suffix}", f"{letter}2{suffix}")
-        return names
-
-    @cached_property
-    def factor(self) -> sympy.Expr:
-        if self.kind == "scalar":
-            expr = self.a
-        elif self.chiral is not None:
-            left, right = self.chiral
-            masses = [(self.chiral_mass[0], ProjL), (self.chiral_mass[1], ProjR)] if self.chiral_mass else []
-            expr = _over_common_denominator([(left, ProjL * Slash(P)), (right, ProjR * Slash(P))] + masses)
-        elif self.kind == "dirac":
-            expr = _over_common_denominator([(self.a, Slash(P)), (self.b, sympy.Integer(1))])
-        else:
-            expr = _over_common_denominator([(self.a, Metric(MU, NU)),
-                                             (self.b, FourVector(P, MU) * FourVector(P, NU))])
-        # p2 (= p.p) was kept as one symbol so that p^2 - m^2 is not factored into (p - m)(p + m)
-        expr = expr.subs(P2, P**2)
-        if self.representations:
-            deltas = [GroupDelta(sympy.Symbol(g), *[sympy.Symbol(n) for n in self.indices[-2 * (len(self.representations) - k):][:2]])
-                      for k, (g, _, _) in enumerate(self.representations)]
-            return sympy.Mul(*deltas, expr, evaluate=False)
-        return expr
-
-    @property
-    def text(self) -> str:
-        """The factor in the output vocabulary (the model language: slash(p), g[mu,nu], p^2, ...)."""
-        return factor_text(self.factor)
-
-    @cached_property
-    def latex(self) -> str:
-        """LaTeX in the customary order: i(pslash + m)/(p^2 - m^2), -i[g - (1 - xi) p p/(p^2 - xi M^2)]/(p^2 - M^2)."""
-        deltas = ""
-        if self.representations:
-            count = len(self.representations)
-            pairs = [self.indices[len(self.indices) - 2 * count + 2 * k:][:2] for k in range(count)]
-            deltas = " ".join(to_latex(GroupDelta(sympy.Symbol(g), *map(sympy.Symbol, pair)))
-                              for (g, _, _), pair in zip(self.representations, pairs)) + " \\, "
-        body = customary_propagator_latex(self.kind, self.a, self.b, self.chiral is not None)
-        return deltas + body if body is not None else to_latex(self.factor)
-
-    def _repr_latex_(self) -> str:
-        from .render.notebook import propagator_latex
-
-        return propagator_latex(self)
-
-    def _repr_html_(self) -> str:
-        from .render.notebook import propagator_html
-
-        return propagator_html(self)
-
-    def __rich__(self) -> object:
-        from .render.notebook import propagator_rich
-
-        return propagator_rich(self)
-
-    @cached_property
-    def _compiled(self) -> Callable[..., np.ndarray]:
-        """The propagator as a numpy function, compiled once (the exported module's code)."""
-        ranks = {name: g.rank for name, g in self.model.groups.items()}
-        source = propagator_function_source(self, "propagator", documented=False)
-        return compile_function(source, "propagator", self.model.conventions.eps0123, ranks)
-
-    def evaluate(self, p: Sequence[float] | np.ndarray, values: Mapping[str, complex] | None = None) -> np.ndarray:
-        """Numeric propagator: scalar (), Dirac (4, 4), vector (4, 4) with upper indices.
-
-        A batch of momenta of shape (..., 4) gives (..., axes), all points in one call.
-        """
-        import numpy as np
-
-        what = f"propagator {self.field}"
-        try:
-            momentum = np.asarray(p, dtype=complex)
-        except (TypeError, ValueError):
-            raise UsageError(f"{what}: the momentum is not a number") from None
-        if momentum.ndim < 1 or momentum.shape[-1] != 4:
-            raise UsageError(f"evaluate() needs one four-momentum (E, px, py, pz), got shape {momentum.shape}",
-                             hint="pass an array of shape (4,), or (N, 4) for a batch of N points")
-        return self._compiled(momentum, _values_for(self.model, values, what, self._value_cache))
-
-    @cached_property
-    def _value_cache(self) -> dict[tuple, _Values]:
-        return {}
-
-
-def _over_common_denominator(parts: list[tuple[sympy.Expr, sympy.Expr]]) -> sympy.Expr:
-    """sum a_k X_k written as (sum n_k X_k) / d when the coefficients share their denominator.
-
-    The coefficients come factored from derive (factoring is the dearest step of a propagator and
-    is done once, there): their numerators and denominators are read off as they stand.
-    """
-    fractions = [sympy.fraction(a) for a, _ in parts]
-    denominators = {d for (n, d), _ in zip(fractions, parts) if n != 0}
-    if len(denominators) != 1:
-        return sympy.Add(*[a * x for a, x in parts])
-    (denominator,) = denominators
-    numerator = sympy.Add(*[n * x for (n, _), (_, x) in zip(fractions, parts) if n != 0])
-    if denominator == 1:
-        return numerator
-    return sympy.Mul(numerator, sympy.Pow(denominator, -1), evaluate=False)
 
 
 @dataclass(frozen=True)
