@@ -145,3 +145,16 @@ def test_command_line_selection_and_values(capsys, tmp_path):
 def test_command_line_mistakes_exit_2_with_a_message(capsys, argv, message):
     assert main(argv) == 2
     assert message in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("label, message, hint", [
+    ("bar(s)", "'s' is its own conjugate, so 'bar(s)' names no leg", "write s"),
+    ("dag(f)", "'dag(f)' names no leg: 'f' is a dirac field", "write bar(f)"),
+    ("bar(phi)", "'bar(phi)' names no leg: 'phi' is a scalar field", "write dag(phi)"),
+], ids=["real-scalar", "fermion-with-dag", "scalar-with-bar"])
+def test_a_wrong_conjugate_of_a_known_field_says_what_is_wrong(label: str, message: str, hint: str) -> None:
+    # the nearest names ('bar(f)' for 'bar(s)') would send the user to another field
+    rules = vs.load_model(vs.example("dark_majorana")).derive()
+    with pytest.raises(UsageError) as info:
+        select_rules(rules, legs=[label])
+    assert (info.value.message, info.value.hint) == (message, hint)

@@ -54,6 +54,14 @@ def _leg_names(rules: "Rules") -> set[str]:
 
 
 def _unknown(name: str, rules: "Rules", what: str) -> UsageError:
+    field = rules.model.fields.get(_field_of(name))
+    if field is not None and name != field.name:
+        # bar() or dag() of a field the model has: say what is wrong with the conjugate, not which name is near
+        if not field.two_ended:
+            return UsageError(f"'{field.name}' is its own conjugate, so '{name}' names no leg",
+                              hint=f"write {field.name}")
+        right = f"bar({field.name})" if field.is_fermion else f"dag({field.name})"
+        return UsageError(f"'{name}' names no leg: '{field.name}' is a {field.kind} field", hint=f"write {right}")
     return UsageError(f"unknown {what} '{name}'",
                       hint=did_you_mean(name, _leg_names(rules),
                                         "the fields are: " + ", ".join(rules.model.fields)))
