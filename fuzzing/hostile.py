@@ -9,7 +9,8 @@ from typing import Callable
 
 from .mutate import Case
 
-_HEAD = """theory hostile "inputs built to exhaust (invented numbers)"
+# the small model every hostile input grows from; tests/test_budgets.py builds its cases on it too
+HOSTILE_HEAD = """theory hostile "inputs built to exhaust (invented numbers)"
 parameters
   coupling c = 0.5
   coupling g = 0.7
@@ -33,36 +34,36 @@ def _binary() -> str:
 
 
 def _many_couplings(n: int) -> str:
-    text = _HEAD.replace("parameters\n", "parameters\n" + "".join(f"  coupling k{i} = 0.{i + 1}\n" for i in range(n)))
+    text = HOSTILE_HEAD.replace("parameters\n", "parameters\n" + "".join(f"  coupling k{i} = 0.{i + 1}\n" for i in range(n)))
     return text + "".join(f"  - k{i} phi^4\n" for i in range(n))
 
 
 HOSTILE: dict[str, Callable[[], str]] = {
-    "nesting-1e5": lambda: _HEAD + "  " + "(" * 100_000 + "c" + ")" * 100_000 + " phi^4\n",
-    "nesting-1e3-index": lambda: _HEAD + "  c phi" + "[" * 1000 + "\n",
-    "sum-1e4-terms": lambda: _HEAD + "  " + " + ".join(["c phi^4"] * 10_000) + "\n",
-    "lines-1e4": lambda: _HEAD + "".join(f"  - {i + 1}/7 c phi^4\n" for i in range(10_000)),
-    "product-1e4": lambda: _HEAD + "  " + " ".join(["c"] * 10_000) + " phi^4\n",
-    "power-of-parameter": lambda: _HEAD + "  - m^1000000000 phi^2\n",
-    "power-in-value": lambda: _HEAD.replace("c = 0.5", "c = 10^(10^10)"),
-    "power-negative-huge": lambda: _HEAD + "  g^(-1e300) phi^4\n",
-    "number-1e999999": lambda: _HEAD.replace("c = 0.5", "c = 1e999999"),
-    "number-1e5-digits": lambda: _HEAD.replace("c = 0.5", "c = " + "7" * 100_000),
-    "exp-710": lambda: _HEAD.replace("c = 0.5", "c = exp(710)"),
-    "log-zero": lambda: _HEAD.replace("c = 0.5", "c = log(0)"),
-    "group-SU1000": lambda: _HEAD.replace("SU(3)", "SU(1000)"),
-    "group-SU1e50": lambda: _HEAD.replace("SU(3)", "SU(" + "1" * 50 + ")"),
-    "group-SU10-adjoint-legs": lambda: _HEAD.replace("SU(3)", "SU(10)").replace(
+    "nesting-1e5": lambda: HOSTILE_HEAD + "  " + "(" * 100_000 + "c" + ")" * 100_000 + " phi^4\n",
+    "nesting-1e3-index": lambda: HOSTILE_HEAD + "  c phi" + "[" * 1000 + "\n",
+    "sum-1e4-terms": lambda: HOSTILE_HEAD + "  " + " + ".join(["c phi^4"] * 10_000) + "\n",
+    "lines-1e4": lambda: HOSTILE_HEAD + "".join(f"  - {i + 1}/7 c phi^4\n" for i in range(10_000)),
+    "product-1e4": lambda: HOSTILE_HEAD + "  " + " ".join(["c"] * 10_000) + " phi^4\n",
+    "power-of-parameter": lambda: HOSTILE_HEAD + "  - m^1000000000 phi^2\n",
+    "power-in-value": lambda: HOSTILE_HEAD.replace("c = 0.5", "c = 10^(10^10)"),
+    "power-negative-huge": lambda: HOSTILE_HEAD + "  g^(-1e300) phi^4\n",
+    "number-1e999999": lambda: HOSTILE_HEAD.replace("c = 0.5", "c = 1e999999"),
+    "number-1e5-digits": lambda: HOSTILE_HEAD.replace("c = 0.5", "c = " + "7" * 100_000),
+    "exp-710": lambda: HOSTILE_HEAD.replace("c = 0.5", "c = exp(710)"),
+    "log-zero": lambda: HOSTILE_HEAD.replace("c = 0.5", "c = log(0)"),
+    "group-SU1000": lambda: HOSTILE_HEAD.replace("SU(3)", "SU(1000)"),
+    "group-SU1e50": lambda: HOSTILE_HEAD.replace("SU(3)", "SU(" + "1" * 50 + ")"),
+    "group-SU10-adjoint-legs": lambda: HOSTILE_HEAD.replace("SU(3)", "SU(10)").replace(
         "  scalar phi real mass m\n", "  scalar phi real mass m\n  scalar S real mass m in strong adjoint\n")
         + "  1/2 D[mu] S[a] D[mu] S[a]\n  - c (S[a] S[a])^4\n",
-    "gluons-many-legs": lambda: _HEAD + "  c (G[mu,a] G[mu,a])^5\n",
-    "field-power-13": lambda: _HEAD + "  c phi^13\n",
-    "derivatives-12": lambda: _HEAD + "  c (d[mu] phi d[mu] phi)^6\n",
+    "gluons-many-legs": lambda: HOSTILE_HEAD + "  c (G[mu,a] G[mu,a])^5\n",
+    "field-power-13": lambda: HOSTILE_HEAD + "  c phi^13\n",
+    "derivatives-12": lambda: HOSTILE_HEAD + "  c (d[mu] phi d[mu] phi)^6\n",
     "couplings-300": lambda: _many_couplings(300),
     "binary-100kB": _binary,
-    "file-50MB": lambda: _HEAD + ("  c phi^4 # padding\n" * 2_700_000),
-    "name-1MB": lambda: _HEAD + "  " + "x" * 1_000_000 + " phi^4\n",
-    "latex-huge-factor": lambda: _HEAD.replace("parameters\n", "parameters\n" + "".join(
+    "file-50MB": lambda: HOSTILE_HEAD + ("  c phi^4 # padding\n" * 2_700_000),
+    "name-1MB": lambda: HOSTILE_HEAD + "  " + "x" * 1_000_000 + " phi^4\n",
+    "latex-huge-factor": lambda: HOSTILE_HEAD.replace("parameters\n", "parameters\n" + "".join(
         f"  coupling k{i} = 0.{i + 1}\n" for i in range(40))) + "  (" + " + ".join(f"k{i}" for i in range(40))
         + ")^4 phi^4\n",
 }

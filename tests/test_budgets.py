@@ -20,22 +20,9 @@ from vertexsmith import limits
 from vertexsmith.check import check_model
 from vertexsmith.cli import main
 
-HEAD = """theory budget "budget tests (invented numbers)"
-parameters
-  coupling c = 0.5
-  coupling g = 0.7
-  mass m = 1.0
-gauge
-  strong SU(3) boson G strength GS coupling g
-fields
-  vector G
-  scalar phi real mass m
-  dirac psi mass m in strong fundamental
-lagrangian
-  -1/4 GS[mu,nu,a] GS[mu,nu,a]
-  1/2 d[mu] phi d[mu] phi - 1/2 m^2 phi^2
-  bar(psi) (I gamma[mu] D[mu] - m) psi
-"""
+from fuzzing.hostile import HOSTILE_HEAD
+
+HEAD = HOSTILE_HEAD  # the model of the hostile-input benchmark, grown here one budget at a time
 LAST = HEAD.count("\n")  # the line number of the last line of HEAD
 
 
