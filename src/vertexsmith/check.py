@@ -80,7 +80,7 @@ class Diagnostic:
         return format_diagnostic(self.severity, self.message, self.span, self.hint, self.source)
 
     def sort_key(self) -> tuple:
-        return (self.span.line, self.span.column, self.message, SEVERITIES.index(self.severity))
+        return (*self.span.place(), self.span.column, self.message, SEVERITIES.index(self.severity))
 
 
 def check_model(model: m.Model) -> list[Diagnostic]:
@@ -259,13 +259,13 @@ class _Checker:
 
     # -------------------------------------------------------------- charges
     def check_charges(self, monomials: list[Monomial]) -> None:
-        found: dict[tuple[int, str], tuple[Span, set[Fraction]]] = {}
+        found: dict[tuple[tuple[str, int], str], tuple[Span, set[Fraction]]] = {}
         for mono in monomials:
             for group in self.model.groups.values():
                 net = sum((self.model.fields[a.field].charge(group.name) * (-1 if a.conjugate else 1)
                            for a in mono.fields), start=Fraction(0))
                 if net != 0:
-                    found.setdefault((mono.origin.line, group.name), (mono.origin, set()))[1].add(net)
+                    found.setdefault((mono.origin.place(), group.name), (mono.origin, set()))[1].add(net)
         for (_, group_name), (span, charges) in found.items():
             self.add("error", f"term is not neutral under '{group_name}': its {show_net_charges(charges)}", span,
                      "the charges of every term must add up to 0 (bar() and dag() fields count with the "
@@ -286,11 +286,11 @@ class _Checker:
 
     # -------------------------------------------------------------- dimensions
     def check_dimensions(self, monomials: list[Monomial]) -> None:
-        highest: dict[int, tuple[Span, Fraction]] = {}
+        highest: dict[tuple[str, int], tuple[Span, Fraction]] = {}
         for mono in monomials:
             d = operator_dimension(self.model, mono)
-            if d > 4 and d > highest.get(mono.origin.line, (mono.origin, Fraction(0)))[1]:
-                highest[mono.origin.line] = (mono.origin, d)
+            if d > 4 and d > highest.get(mono.origin.place(), (mono.origin, Fraction(0)))[1]:
+                highest[mono.origin.place()] = (mono.origin, d)
         for span, d in highest.values():
             self.add("note", f"operator of mass dimension {d} (above 4: not renormalisable)", span,
                      f"its coefficient has mass dimension {4 - d}")
@@ -435,12 +435,12 @@ class _Checker:
             try:
                 if self.hermitian(point, key, originals, partners):
                     continue
-                lines: dict[int, Span] = {}
+                lines: dict[tuple[str, int], Span] = {}  # by file and line: a model may build on other files
                 for mono in originals + partners:
-                    lines.setdefault(mono.origin.line, mono.origin)
+                    lines.setdefault(mono.origin.place(), mono.origin)
                 for line, span in sorted(lines.items()):
-                    mine = [mono for mono in originals if mono.origin.line == line]
-                    theirs = [mono for mono in partners if mono.origin.line == line]
+                    mine = [mono for mono in originals if mono.origin.place() == line]
+                    theirs = [mono for mono in partners if mono.origin.place() == line]
                     self.report_line(point, key, mine, theirs, span)
             except VertexsmithError as error:
                 self.add_error(error)
@@ -470,8 +470,8 @@ class _Checker:
         try:
             rules = derive_rules(self.model, monomials, gauge="xi")
         except VertexsmithError as error:
-            taken = {d.span.line for d in self.diagnostics if d.severity == "error"}
-            if error.span.line not in taken:
+            taken = {d.span.place() for d in self.diagnostics if d.severity == "error"}
+            if error.span.place() not in taken:
                 self.add_error(error)
         else:
             self.check_silent_lines(monomials, {line for v in rules.vertices for line in v.origins})

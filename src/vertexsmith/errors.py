@@ -7,22 +7,36 @@ hint saying what to write instead.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from typing import Iterable, TypeVar
 
 
 @dataclass(frozen=True)
 class Span:
-    """A region of a model file, 1-based line and column (end inclusive of its last character)."""
+    """A region of a model file, 1-based line and column (end inclusive of its last character).
+
+    `source` names the file when it is not the model's own: a model that builds on other files
+    (`builds on "..."`) keeps each included file's text here, so that an error points into the
+    right file. It takes no part in comparisons, as a position's numbers alone did before.
+    """
 
     line: int
     column: int
     end_line: int
     end_column: int
+    source: "Source | None" = field(default=None, compare=False, repr=False)
 
     @classmethod
     def point(cls, line: int, column: int) -> "Span":
         return cls(line, column, line, column)
+
+    def located(self, source: "Source | None") -> "Span":
+        """The same region, marked as a region of `source` (the file it was read from)."""
+        return self if source is None or self.source is source else replace(self, source=source)
+
+    def place(self) -> tuple[str, int]:
+        """File name (empty for the model's own file) and line: a key that tells lines of two files apart."""
+        return (self.source.name if self.source is not None else "", self.line)
 
 
 UNKNOWN_SPAN = Span(0, 0, 0, 0)
@@ -51,12 +65,13 @@ class VertexsmithError(Exception):
     severity = "error"
 
     def __init__(self, message: str, span: Span = UNKNOWN_SPAN, hint: str = "",
-                 source: Source | None = None) -> None:
+                 source: Source | None = None, related: tuple[tuple[str, Span], ...] = ()) -> None:
         super().__init__(message)
         self.message = message
         self.span = span
         self.hint = hint
         self.source = source
+        self.related = related  # other places the message is about: (what it is, where), shown as notes
 
     def with_source(self: _E, source: Source) -> _E:
         if self.source is None:
@@ -64,7 +79,7 @@ class VertexsmithError(Exception):
         return self
 
     def __str__(self) -> str:
-        return format_diagnostic(self.severity, self.message, self.span, self.hint, self.source)
+        return format_diagnostic(self.severity, self.message, self.span, self.hint, self.source, self.related)
 
 
 class ModelSyntaxError(VertexsmithError):
@@ -84,8 +99,18 @@ class UsageError(VertexsmithError):
 
 
 def format_diagnostic(severity: str, message: str, span: Span, hint: str = "",
-                      source: Source | None = None) -> str:
-    """Render one diagnostic in the compiler style: location, message, line, caret, hint."""
+                      source: Source | None = None, related: tuple[tuple[str, Span], ...] = ()) -> str:
+    """Render one diagnostic in the compiler style: location, message, line, caret, hint.
+
+    A span read from another file than the model's own carries that file and is shown in it;
+    each `related` place (a first declaration, say) follows as a note with its own line and caret.
+    """
+    text = _format_one(severity, message, span, hint, span.source or source)
+    notes = [_format_one("note", what, where, "", where.source or source) for what, where in related]
+    return "\n".join([text, *notes])
+
+
+def _format_one(severity: str, message: str, span: Span, hint: str, source: Source | None) -> str:
     name = source.name if source is not None else "<model>"
     if span.line <= 0:
         head = f"{name}: {severity}: {message}"

@@ -289,7 +289,7 @@ def _fields_span(mono: Monomial) -> Span:
         return mono.origin
     first = min(spans, key=lambda s: (s.line, s.column))
     last = max(spans, key=lambda s: (s.end_line, s.end_column))
-    return Span(first.line, first.column, last.end_line, last.end_column)
+    return Span(first.line, first.column, last.end_line, last.end_column, first.source)
 
 
 __all__ = ["Finding", "find_violations", "operator_dimension", "show_net_charges"]

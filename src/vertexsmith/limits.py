@@ -34,6 +34,8 @@ class Budget:
 
 
 MODEL_BYTES = Budget("bytes in a model file", 2_000_000, "larger files are generated text, not models")
+MODEL_FILES = Budget("files one model builds on, through every level", 32,
+                     "a longer chain of included files is generated, not written")
 HAND_RULES_BYTES = Budget("bytes in a hand-rules file", 1_000_000, "larger files are generated text")
 TOKENS = Budget("words and symbols in a model file", 100_000,
                 "reading more takes longer than a user waits; a model this long is generated text")
@@ -68,7 +70,7 @@ LATEX_CHARACTERS = Budget("characters of LaTeX for one factor", 200_000,
 EXPRESSION_NODES = Budget("size of one symbolic factor (nodes of its expression tree)", 20_000,
                           "printing or simplifying a larger formula takes more than seconds")
 
-ALL = (MODEL_BYTES, HAND_RULES_BYTES, TOKENS, LAGRANGIAN_LINES, NESTING, NUMBER_DIGITS, NUMBER_EXPONENT, EXACT_DIGITS,
+ALL = (MODEL_BYTES, MODEL_FILES, HAND_RULES_BYTES, TOKENS, LAGRANGIAN_LINES, NESTING, NUMBER_DIGITS, NUMBER_EXPONENT, EXACT_DIGITS,
        MAGNITUDE, POWER,
        FIELD_POWER, GROUP_RANK, LEGS, ASSIGNMENTS, VERTEX_ASSIGNMENTS, TERMS_PER_LINE, MONOMIALS, TERMS_PER_VERTEX,
        TENSOR_ELEMENTS, LATEX_CHARACTERS, EXPRESSION_NODES, EXPANDED_TERMS, PRODUCT_FACTORS)

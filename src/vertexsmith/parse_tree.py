@@ -154,6 +154,9 @@ class ToSyntax(_Operators):
     def theory_decl(self, meta: Any, children: list[Any]) -> sx.TheoryDecl:
         return sx.TheoryDecl(str(children[0]), _string(children[1] if len(children) > 1 else None), _span(meta))
 
+    def base_decl(self, meta: Any, children: list[Any]) -> tuple[str, list[Any]]:
+        return ("bases", [sx.BaseDecl(_string(children[0]), _token_span(children[0]))])
+
     def param_word(self, meta: Any, children: list[Token]) -> Token:
         return children[0]
 
@@ -302,12 +305,12 @@ class ToSyntax(_Operators):
     def start(self, meta: Any, children: list[Any]) -> sx.ModelFile:
         parts: dict[str, list[Any]] = {k: [] for k in
                                        ("parameters", "fields", "gauges", "definitions", "terms", "conventions",
-                                        "globals_", "spaces")}
+                                        "globals_", "spaces", "bases")}
         for key, items in children[1:]:
             parts[key].extend(items)
         return sx.ModelFile(children[0], *(tuple(parts[k]) for k in
                                            ("parameters", "fields", "gauges", "definitions", "terms", "conventions",
-                                            "globals_", "spaces")))
+                                            "globals_", "spaces", "bases")))
 
 
 @v_args(meta=True)

@@ -22,6 +22,7 @@ from typing import TYPE_CHECKING, Callable
 from . import limits
 from . import model as m
 from .build import build_model
+from .compose import compose_model_file
 from .assemble import derive_rules
 from .errors import ModelSyntaxError, Source, Span, UsageError, VertexsmithError
 from .expand import Monomial, expand_model
@@ -150,7 +151,14 @@ class Model(m.Model):
 def load_model(path: str | Path | None = None, *, text: str | None = None, name: str | None = None) -> Model:
     """Read and build a model from a file path or from text (`text=`)."""
     source = read_model_text(path, text=text, name=name)
-    return Model.of(build_model(parse_text(source.text, source.name), source))
+    tree = parse_text(source.text, source.name)
+    try:
+        if tree.bases:  # `builds on` lines: the files it names are read and merged in (compose.py)
+            tree = compose_model_file(tree, source, Path(path) if text is None and path is not None else None,
+                                      lambda file, shown: read_model_text(file, name=shown))
+        return Model.of(build_model(tree, source))
+    except VertexsmithError as exc:
+        raise exc.with_source(source) from None
 
 
 __all__ = ["MODEL_STAGES", "Model", "check", "derive", "expand", "load_model", "prepare_model", "read_model_text"]

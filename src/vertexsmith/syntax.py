@@ -213,6 +213,14 @@ class Convention:
 
 
 @dataclass(frozen=True)
+class BaseDecl:
+    """`builds on "FILE"`: another model file this one is read on top of (path as written)."""
+
+    path: str
+    span: Span = field(compare=False)
+
+
+@dataclass(frozen=True)
 class ModelFile:
     """Everything a model file says, section by section, in the order written."""
 
@@ -225,6 +233,7 @@ class ModelFile:
     conventions: tuple[Convention, ...]
     globals_: tuple[GlobalDecl, ...] = ()
     spaces: tuple[SpaceDecl, ...] = ()
+    bases: tuple[BaseDecl, ...] = ()  # the files it builds on, merged in by compose.py
 
 
 # ------------------------------------------------------------------ hand-derived rules

@@ -134,8 +134,10 @@ def _diagnostics(diagnostics: Sequence[Any] | None) -> str:
     summary = ", ".join(f"{n} {s}{'' if n == 1 else 's'}" for s, n in counts.items())
     items = []
     for d in diagnostics:
+        source = d.span.source or getattr(d, "source", None)  # a span of a file the model builds on names it
         where = f"line {d.span.line}, column {d.span.column}" if d.span.line > 0 else "the model"
-        source = getattr(d, "source", None)
+        if d.span.source is not None and d.span.line > 0:
+            where = f"{d.span.source.name}, {where}"
         line = source.line(d.span.line) if source is not None and d.span.line > 0 else ""
         hint = f"<br/>hint: {escape(d.hint)}" if d.hint else ""
         shown = f"<pre>{escape(line)}</pre>" if line else ""
