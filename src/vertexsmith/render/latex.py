@@ -17,6 +17,7 @@ Symbols go through `symbolic.to_latex` (names and factors alike); plain text
 
 from __future__ import annotations
 
+import itertools
 import re
 from typing import TYPE_CHECKING, Any
 
@@ -27,6 +28,7 @@ from .json import conventions_to_dict
 
 if TYPE_CHECKING:
     from ..rules import Leg, Propagator, Rules, Vertex
+    from ..model import Parameter
 
 _TEXT_ESCAPES = {
     "\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#", "_": r"\_", "{": r"\{",
@@ -278,6 +280,7 @@ def _parameters_table(rules: "Rules") -> list[str]:
     if not parameters:
         return ["The model has no parameters."]
     rows = [r"\begin{tabular}{llp{0.4\linewidth}}", r"name & value & description \\", r"\hline"]
+    wide: list[str] = []  # matrices too wide for the table, listed entry by entry after it
     for p in parameters:
         value = _number(p.value)
         if p.is_array and p.entries is not None:  # a vector or matrix parameter: its entries as written
@@ -285,11 +288,28 @@ def _parameters_table(rules: "Rules") -> list[str]:
             cells = [to_latex(e) for e in p.entries]
             rows_ = [" & ".join(cells[k:k + columns]) for k in range(0, len(cells), columns)]
             value = "$\\begin{pmatrix}" + " \\\\ ".join(rows_) + "\\end{pmatrix}$"
+            if max(len(row) for row in rows_) > _WIDE_ROW:
+                value = "see below"
+                wide += _entry_lines(p, cells)
         elif p.is_array:
             value = "(no value)"
         rows.append(f"${_name(p.name)}$ & {value} & {escape_text(p.description)} \\\\")
     rows.append(r"\end{tabular}")
-    return rows
+    return rows + wide
+
+
+# LaTeX characters of one matrix row beyond which the row would not fit the parameters table
+_WIDE_ROW = 90
+
+
+def _entry_lines(p: "Parameter", cells: list[str]) -> list[str]:
+    """A wide matrix parameter written entry by entry, one display line each (1-based indices)."""
+    lines = ["", f"The entries of ${_name(p.name)}$:", r"\begin{gather*}"]
+    indices = list(itertools.product(*(range(1, n + 1) for n in p.shape)))
+    entries = [f"{_name(p.name)}_{{{','.join(map(str, k))}}} = {cell}" for k, cell in zip(indices, cells)]
+    lines.append(" \\\\\n".join(entries))
+    lines.append(r"\end{gather*}")
+    return lines
 
 
 def _legs_table(rules: "Rules") -> list[str]:
