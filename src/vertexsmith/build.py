@@ -202,7 +202,7 @@ class _Builder(Declarations):
                 if name in CONSTANTS and s.name not in self.declared:
                     continue
                 return False
-            if isinstance(s, sx.Call) and s.function in ("bar", "dag"):
+            if isinstance(s, sx.Call) and s.function in ("bar", "dag", "cc"):
                 return False
             if isinstance(s, sx.HermitianConjugate):
                 return False
@@ -412,6 +412,13 @@ class _Builder(Declarations):
         arg = node.argument
         while isinstance(arg, sx.Group):
             arg = arg.inner
+        if node.function == "cc":
+            return self._charge_conjugate(arg, node, barred=False)
+        if node.function == "bar" and isinstance(arg, sx.Call) and arg.function == "cc":
+            inner_arg = arg.argument
+            while isinstance(inner_arg, sx.Group):
+                inner_arg = inner_arg.inner
+            return self._charge_conjugate(inner_arg, node, barred=True)
         if node.function == "bar":
             if not isinstance(arg, sx.Symbol) or arg.name not in self.fields:
                 raise ModelMeaningError("bar() takes one fermion field", node.span, "write bar(psi)")
@@ -445,6 +452,27 @@ class _Builder(Declarations):
                                     "for a field write dag(...) or bar(...)")
         raise ModelMeaningError(f"{node.function}() of a field has no Feynman rule", node.span,
                                 f"{node.function}() takes parameters and numbers only")
+
+    def _charge_conjugate(self, arg: sx.Expr, node: sx.Call, barred: bool) -> m.LField:
+        """cc(psi) = C bar(psi)^T and bar(cc(psi)) = psi^T C of a fermion (a Majorana field is its own cc)."""
+        written = "bar(cc(...))" if barred else "cc(...)"
+        if not isinstance(arg, sx.Symbol) or arg.name not in self.fields:
+            raise ModelMeaningError(f"{written} takes one fermion field", node.span,
+                                    "write cc(psi) for the charge conjugate C bar(psi)^T, bar(cc(psi)) for its adjoint")
+        f = self.fields[arg.name]
+        if not f.is_fermion:
+            raise ModelMeaningError(f"cc() of the {f.kind} '{f.name}': only a fermion has a charge conjugate "
+                                    "spinor", node.span, f"for a boson write dag({f.name})" if f.is_complex
+                                    else f"'{f.name}' is real: write {f.name}")
+        inner = self._field_inside(arg, node)
+        if f.kind == "majorana":  # chi^c = chi: the factor is the field itself
+            return m.LField(f.name, barred, None, node.span, inner.group_indices)
+        if any(index is None for _, index in inner.group_indices):
+            group = next(g for g, index in inner.group_indices if index is None)
+            raise ModelMeaningError(f"cc({f.name}) needs its {group} index written out", node.span,
+                                    f"a charge conjugate sits in the conjugate representation: write "
+                                    f"cc({f.name}[i]) and contract i explicitly")
+        return m.LField(f.name, not barred, None, node.span, inner.group_indices, charge_conjugate=True)
 
     # ------------------------------------------------------------------ indices
     def _free_indices(self, node: sx.Expr) -> Counter[str]:

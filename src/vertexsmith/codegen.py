@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING, Any, Callable, Sequence
 import sympy
 from sympy.printing.numpy import NumPyPrinter
 
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy,
+from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDummy, chains_need_legs,
                          LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure,
                          StructureConstant, Vector)
 from .symbolic import factor_text, group_to_sympy, lorentz_to_sympy
@@ -99,7 +99,7 @@ def _momentum_code(momentum: Momentum) -> str:
     return text if len(momentum.terms) == 1 and momentum.terms[0][1] == 1 else f"({text})"
 
 
-_CHIRAL_CODE = {"gamma5": "_GAMMA5", "PL": "_PL", "PR": "_PR"}
+_CHIRAL_CODE = {"gamma5": "_GAMMA5", "PL": "_PL", "PR": "_PR", "C": "_CC"}
 
 
 class _Einsum:
@@ -266,7 +266,7 @@ def vertex_function_source(vertex: "Vertex", name: str, ranks: dict[str, int], d
         body += _constant_vertex_body(vertex, name, calls, shape)
         return "\n".join(body)
     body.append(f"    out = np.zeros(p1.shape[:-1] + {shape}, dtype=complex)")
-    wrap = any(len(t.structure.chains) > 1 for t in vertex.terms)
+    wrap = chains_need_legs(t.structure for t in vertex.terms)
     for term, (call, _) in zip(vertex.terms, calls):
         if documented:
             lorentz = lorentz_to_sympy(term.structure, wrap)
@@ -369,6 +369,7 @@ _GAMMA5 = 1j * _GAMMA[0] @ _GAMMA[1] @ _GAMMA[2] @ _GAMMA[3]
 _ID4 = np.eye(4, dtype=complex)
 _PL = (_ID4 - _GAMMA5) / 2
 _PR = (_ID4 + _GAMMA5) / 2
+_CC = 1j * _GAMMA[2] @ _GAMMA[0]  # charge conjugation C = i gamma^2 gamma^0, at the ends of cc() chains
 _SIGMA = 0.5j * (np.einsum("mij,njk->mnik", _GAMMA, _GAMMA) - np.einsum("nij,mjk->mnik", _GAMMA, _GAMMA))
 
 

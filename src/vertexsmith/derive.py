@@ -26,7 +26,7 @@ from .errors import DerivationError
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom, is_plain_product
 from .spaces import index_dimension
 from .rules import Leg, Vertex, VertexTerm
-from .structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
+from .structures import (CHARGE_CONJUGATION, Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                          GroupDummy,
                          LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant,
                          Vector, canonical_structure, momentum_slots, permutation_sign, replace_slot,
@@ -270,11 +270,14 @@ def _structure(model: m.Model, mono: Monomial, mapping: dict[int, int]) -> tuple
             else:
                 matrices.append(Chiral(atom.kind))
         elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
-            if atom.conjugate:
+            if atom.opens_chain:
                 open_bar = mapping[k]
-                matrices = []
+                # bar(cc(psi)) = psi^T C: the row index of the chain is psi's own spinor index
+                matrices = [CHARGE_CONJUGATION] if atom.charge_conjugate else []
             else:
                 assert open_bar is not None
+                if atom.charge_conjugate:  # cc(psi) = C bar(psi)^T: the column index is bar(psi)'s own
+                    matrices.append(CHARGE_CONJUGATION)
                 chains.append(Chain(open_bar, mapping[k], tuple(matrices)))
                 open_bar = None
     sign, structure = canonical_structure(Structure(tuple(tensors), tuple(chains), tuple(group_tensors)))
@@ -314,19 +317,35 @@ def check_chains(model: m.Model, mono: Monomial) -> None:
                 raise DerivationError(f"'{atom.kind}' stands outside a fermion bilinear", atom.span,
                                       "write Dirac matrices between bar(psi) and psi, e.g. bar(psi) gamma[mu] psi")
         elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
-            if atom.conjugate:
+            if atom.opens_chain:
                 if open_atom is not None:
+                    if atom.charge_conjugate or open_atom.charge_conjugate:
+                        raise DerivationError(f"the chain {chain_end_label(open_atom)} ... {chain_end_label(atom)} "
+                                              "cannot be assembled: both ends are rows", atom.span,
+                                              f"{chain_end_label(atom)} opens a chain; end the chain with a "
+                                              f"column: {atom.field}, or cc({atom.field}) for the charge conjugate")
                     raise DerivationError("a fermion bilinear opens twice before it closes", atom.span,
                                           "write bar(a) ... b, each bar() followed by its partner field")
                 open_atom = atom
             else:
                 if open_atom is None:
+                    if atom.charge_conjugate:
+                        raise DerivationError(f"'{chain_end_label(atom)}' closes a chain that nothing opened",
+                                              atom.span, f"write bar(...) or bar(cc(...)) before it, as in "
+                                              f"bar(psi) PL cc({atom.field})")
                     raise DerivationError(f"the fermion '{atom.field}' has no bar() partner before it", atom.span,
                                           f"write bar(...) before {atom.field}, as in bar(psi) psi")
                 open_atom = None
     if open_atom is not None:
-        raise DerivationError(f"bar({open_atom.field}) has no fermion after it", open_atom.span,
-                              "close the bilinear with a fermion field, as in bar(psi) psi")
+        raise DerivationError(f"{chain_end_label(open_atom)} has no fermion after it", open_atom.span,
+                              "close the bilinear with a fermion field, as in bar(psi) psi"
+                              + (" or bar(cc(psi)) chi" if open_atom.charge_conjugate else ""))
+
+
+def chain_end_label(atom: FieldAtom) -> str:
+    """How a fermion factor is written: psi, bar(psi), cc(psi) or bar(cc(psi))."""
+    name = f"cc({atom.field})" if atom.charge_conjugate else atom.field
+    return f"bar({name})" if atom.opens_chain else name
 
 
 def monomial_terms(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> list[tuple[sympy.Expr, Structure]]:

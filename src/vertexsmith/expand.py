@@ -37,6 +37,12 @@ class FieldAtom:
     derivatives: tuple[str, ...]
     span: Span = dataclasses.field(compare=False)
     group_indices: tuple[tuple[str, str | None], ...] = ()  # (group, index); None until implied ones are fixed
+    charge_conjugate: bool = False  # cc(psi) / bar(cc(psi)): see model.LField
+
+    @property
+    def opens_chain(self) -> bool:
+        """Whether the factor stands at the row (bar) end of a spinor chain: bar(psi) or bar(cc(psi))."""
+        return self.conjugate != self.charge_conjugate
 
     def group_index(self, group: str) -> str | None:
         return dict(self.group_indices).get(group)
@@ -295,7 +301,7 @@ class _Expander:
             return [_Partial(node.value, ())]
         if isinstance(node, m.LField):
             return [_Partial(sympy.Integer(1), (FieldAtom(node.field, node.conjugate, node.index, (), node.span,
-                                                          node.group_indices),))]
+                                                          node.group_indices, node.charge_conjugate),))]
         if isinstance(node, m.LGroup):
             return [_Partial(sympy.Integer(1), (GroupAtom(node.kind, node.group, node.indices, node.span),))]
         if isinstance(node, m.LParam):
@@ -512,7 +518,8 @@ def expand_model(model: m.Model) -> tuple[Monomial, ...]:
         if len(out) > MAX_MONOMIALS:
             raise DerivationError(f"the Lagrangian expands into more than {MAX_MONOMIALS} monomials", term.span,
                                   "split the model or simplify its terms")
-    if any(f.kind == "majorana" for f in model.fields.values()):
+    if any(f.kind == "majorana" for f in model.fields.values()) or any(
+            isinstance(a, FieldAtom) and a.charge_conjugate for mono in out for a in mono.atoms):
         out = [flowed for mono in out for flowed in orient_majorana_chains(model, mono)]
     return tuple(out)
 
@@ -528,17 +535,19 @@ def _chains(model: m.Model, atoms: tuple[Atom, ...]) -> list[tuple[int, list[int
         if isinstance(atom, DiracAtom) and start is not None:
             inside.append(k)
         elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
-            if atom.conjugate and start is None:
+            if atom.opens_chain and start is None:
                 start, inside = k, []
-            elif not atom.conjugate and start is not None:
+            elif not atom.opens_chain and start is not None:
                 chains.append((start, inside, k))
                 start = None
     return chains
 
 
-def _reverse_chain(mono: Monomial, chain: tuple[int, list[int], int]) -> Monomial:
-    """bar(a) G b rewritten as bar(b) G' a with G' = C G^T C^-1 (an identity for Majorana a and b).
+def _reverse_chain(model: m.Model, mono: Monomial, chain: tuple[int, list[int], int]) -> Monomial:
+    """bar(a) G b rewritten as bar(b^c) G' a^c with G' = C G^T C^-1, an identity for anticommuting fields.
 
+    For a Majorana field a^c = a, so the reversed chain is bar(b) G' a; for a Dirac field the end
+    toggles between psi and cc(psi) (cc(cc(psi)) = psi, since C C^T = 1).
     The fields keep their derivatives and indices; the Dirac matrices take the chain's positions in
     reversed order, and the sign is that of C G^T C^-1 (see fermion_flow.py). Atoms that stand
     between the two fields (a boson, a ghost) stay where they are: moving a Grassmann factor past
@@ -550,11 +559,24 @@ def _reverse_chain(mono: Monomial, chain: tuple[int, list[int], int]) -> Monomia
     assert isinstance(bar_atom, FieldAtom) and isinstance(plain_atom, FieldAtom)
     kinds = [atoms[k].kind for k in inside]  # type: ignore[union-attr]
     sign, matrices = reversed_chain(kinds, [atoms[k] for k in inside])
-    atoms[start] = replace(plain_atom, conjugate=True)
-    atoms[end] = replace(bar_atom, conjugate=False)
+    atoms[start] = _flip_end(model, plain_atom)
+    atoms[end] = _flip_end(model, bar_atom)
     for k, matrix in zip(inside, matrices):
         atoms[k] = matrix
     return Monomial(sign * mono.coefficient, tuple(atoms), mono.origin)
+
+
+def _flip_end(model: m.Model, atom: FieldAtom) -> FieldAtom:
+    """The other end of a reversed chain: a Majorana field changes its bar, a Dirac field its cc()."""
+    if model.fields[atom.field].kind == "majorana":
+        return replace(atom, conjugate=not atom.conjugate)
+    return replace(atom, charge_conjugate=not atom.charge_conjugate)
+
+
+def _cc_count(model: m.Model, atoms: tuple[FieldAtom, FieldAtom]) -> tuple[int, int]:
+    """How many ends of a chain carry C now, and how many would after reversing it."""
+    dirac = [a for a in atoms if model.fields[a.field].kind != "majorana"]
+    return sum(a.charge_conjugate for a in dirac), sum(not a.charge_conjugate for a in dirac)
 
 
 def orient_majorana_chains(model: m.Model, mono: Monomial) -> list[Monomial]:
@@ -575,10 +597,18 @@ def orient_majorana_chains(model: m.Model, mono: Monomial) -> list[Monomial]:
         start, _, end = chain
         a, b = mono.atoms[start], mono.atoms[end]
         assert isinstance(a, FieldAtom) and isinstance(b, FieldAtom)
+        if a.charge_conjugate or b.charge_conjugate:
+            # a chain with a Dirac cc() end is read the way with fewer C matrices (none when the other end is
+            # Majorana or both ends are cc()); with one C either way, C goes to the field declared later
+            now, after = _cc_count(model, (a, b))
+            conjugated, other = (a, b) if a.charge_conjugate else (b, a)
+            if after < now or (after == now and order[conjugated.field] < order[other.field]):
+                out = [_reverse_chain(model, one, chain) for one in out]
+            continue
         if model.fields[a.field].kind != "majorana" or model.fields[b.field].kind != "majorana":
             continue
         if a.field == b.field:
-            out = out + [_reverse_chain(one, chain) for one in out]
+            out = out + [_reverse_chain(model, one, chain) for one in out]
         elif order[a.field] > order[b.field]:
-            out = [_reverse_chain(one, chain) for one in out]
+            out = [_reverse_chain(model, one, chain) for one in out]
     return out

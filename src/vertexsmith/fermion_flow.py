@@ -23,6 +23,14 @@ FERMION_FLOW_TEXT = (
     "along the flow; diagrams take the sign of the permutation of their external spinors"
 )
 
+# stated wherever a vertex has a chain with C (a cc() field in the model)
+CHARGE_CONJUGATE_TEXT = (
+    "cc(psi) = C bar(psi)^T and bar(cc(psi)) = psi^T C with C = i gamma^2 gamma^0 (C^T = C^-1 = -C); a chain "
+    "with C is written chain(i, j, ...) with the spinor index of leg i as its row and that of leg j as its "
+    "column: chain(i, j, G CC) = bar(leg i) G C bar(leg j)^T; read along the fermion flow from j to i it is "
+    "the vertex G with v (or u) of leg j in place of ubar^T (or vbar^T), since v = C ubar^T"
+)
+
 # the sign each Dirac matrix of the model language takes under C M^T C^-1
 REVERSAL_SIGN = {"gamma": -1, "sigma": -1, "gamma5": 1, "PL": 1, "PR": 1}
 
@@ -45,4 +53,4 @@ def charge_conjugation_matrix():  # noqa: ANN201 - a numpy array, imported lazil
     return 1j * GAMMA[2] @ GAMMA[0]
 
 
-__all__ = ["FERMION_FLOW_TEXT", "REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]
+__all__ = ["CHARGE_CONJUGATE_TEXT", "FERMION_FLOW_TEXT", "REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]

@@ -16,7 +16,8 @@ from typing import TYPE_CHECKING, Any, Callable, Mapping, Sequence
 import numpy as np
 
 from .errors import ModelMeaningError, Source, Span, did_you_mean
-from .numeric import GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita, lower, slash
+from .numeric import (CHARGE_CONJUGATION_MATRIX, GAMMA, GAMMA5, IDENTITY4, METRIC, PROJ_L, PROJ_R, SIGMA, levi_civita,
+                      lower, slash)
 from .rules import Leg, Propagator, Rules
 from .structures import permutation_sign
 from .syntax import HandRule, HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient, HSum
@@ -88,7 +89,7 @@ class HandContext:
 
     def known_names(self) -> list[str]:
         return sorted(set(self.parameters) | set(self.xi) | set(self.momentum_names)
-                      | {"I", "pi", "gamma", "gamma5", "PL", "PR", "sigma", "g", "eps", "f", "T", "delta"})
+                      | {"I", "pi", "gamma", "gamma5", "PL", "PR", "CC", "sigma", "g", "eps", "f", "T", "delta"})
 
 
 class HandNumeric:
@@ -303,8 +304,9 @@ class HandNumeric:
             return self.scalar(1j)
         if name == "pi":
             return self.scalar(np.pi)
-        if name in ("gamma5", "PL", "PR") and name not in ctx.parameters:
-            return HandValue({"gamma5": GAMMA5, "PL": PROJ_L, "PR": PROJ_R}[name], (), True)
+        if name in ("gamma5", "PL", "PR", "CC") and name not in ctx.parameters:
+            return HandValue({"gamma5": GAMMA5, "PL": PROJ_L, "PR": PROJ_R, "CC": CHARGE_CONJUGATION_MATRIX}[name],
+                             (), True)
         if name in ctx.parameters or name in ctx.xi:
             if name not in self.values:
                 raise ctx.error(f"the parameter '{name}' has no value", span, "give it a value in the model file")

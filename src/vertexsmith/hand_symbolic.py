@@ -12,7 +12,7 @@ import sympy
 from .hand_numbers import HandContext, group_tensor_name
 from .rules import MU, NU, P
 from .symbolic import (Chain, Component, Dot, FourVector, Gamma, Gamma5, Generator, GroupAlternating, GroupDelta, LeviCivita,
-                       Metric, ProjL, ProjR, Sigma, Slash, StructureConstant)
+                       ChargeConj, Metric, ProjL, ProjR, Sigma, Slash, StructureConstant)
 from .syntax import HCall, HDot, HIndexed, HName, HNode, HNumber, HPower, HProduct, HQuotient, HSum
 
 # ------------------------------------------------------------------ sympy from hand factors
@@ -86,8 +86,8 @@ class HandSymbolic:
             return sympy.I
         if name == "pi":
             return sympy.pi
-        if name in ("gamma5", "PL", "PR") and name not in ctx.parameters:
-            return {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR}[name]
+        if name in ("gamma5", "PL", "PR", "CC") and name not in ctx.parameters:
+            return {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR, "CC": ChargeConj}[name]
         if name in ctx.parameters:
             if ctx.parameters[name].is_array and node.indices:
                 return Component(ctx.parameters[name].symbol, *slots)

@@ -188,6 +188,14 @@ class LField:
     index: str | None
     span: Span = dataclasses.field(compare=False)
     group_indices: tuple[tuple[str, str | None], ...] = ()
+    # cc(psi) = C bar(psi)^T (conjugate=True) and bar(cc(psi)) = psi^T C (conjugate=False): the
+    # operator content is that of `conjugate`, the spinor sits at the other end of its chain
+    charge_conjugate: bool = False
+
+    @property
+    def opens_chain(self) -> bool:
+        """Whether the factor stands at the row (bar) end of a spinor chain."""
+        return self.conjugate != self.charge_conjugate
 
 
 @dataclass(frozen=True)

@@ -37,7 +37,8 @@ IDENTITY4 = np.eye(4, dtype=complex)
 PROJ_L = (IDENTITY4 - GAMMA5) / 2
 PROJ_R = (IDENTITY4 + GAMMA5) / 2
 SIGMA = np.array([[0.5j * (GAMMA[m] @ GAMMA[n] - GAMMA[n] @ GAMMA[m]) for n in range(4)] for m in range(4)])
-_CHIRAL = {"gamma5": GAMMA5, "PL": PROJ_L, "PR": PROJ_R}
+CHARGE_CONJUGATION_MATRIX = 1j * GAMMA[2] @ GAMMA[0]  # C of fermion_flow.py, at the ends of cc() chains
+_CHIRAL = {"gamma5": GAMMA5, "PL": PROJ_L, "PR": PROJ_R, "C": CHARGE_CONJUGATION_MATRIX}
 
 
 def levi_civita(eps0123: int) -> np.ndarray:

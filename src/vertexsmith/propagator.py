@@ -66,6 +66,13 @@ class Propagator:
         return "p"
 
     @property
+    def field_kind(self) -> str:
+        """The kind users read: `kind` is the form of D (scalar, dirac, vector), and a Majorana field's D has the
+        Dirac form with p along the fermion flow, so it is labelled majorana."""
+        field = self.model.fields.get(self.field)
+        return "majorana" if field is not None and field.kind == "majorana" else self.kind
+
+    @property
     def indices(self) -> tuple[str, ...]:
         names: tuple[str, ...] = {"vector": ("mu", "nu"), "dirac": ("s1", "s2")}.get(self.kind, ())
         for group, rep, _ in self.representations:

@@ -170,12 +170,29 @@ def _pairing(model: m.Model, key: tuple[Species, Species]) -> tuple[list[tuple[S
     return [((f1, c1), (f2, c2))], "a complex field with a real one (write the complex field as two real fields)"
 
 
+def _refuse_fermion_number_violation(model: m.Model, mono: Monomial) -> None:
+    """A Dirac field's bilinear with cc() (a Majorana mass) is not a Dirac kernel: say what to write instead.
+
+    bar(cc(psi)) psi pairs psi with itself, so psi is no longer a Dirac particle; its mass eigenstate is
+    the Majorana field psi + cc(psi) (Dreiner, Haber & Martin, arXiv:0812.1594, sec. 3, from memory).
+    """
+    for atom in mono.fields:
+        if atom.charge_conjugate:
+            name = atom.field
+            raise DerivationError(f"a Majorana mass for the Dirac field '{name}': bar(cc({name})) ... {name} pairs "
+                                  f"'{name}' with itself, which a Dirac propagator cannot hold", mono.origin,
+                                  f"declare the field majorana (the field {name} + cc({name})) and write its mass "
+                                  f"as - 1/2 M bar({name}) {name}, or bar(cc({name})) with a majorana field; for a "
+                                  "chiral field use weyl input")
+
+
 def quadratic_form(model: m.Model, monomials: Iterable[Monomial]) -> QuadraticForm:
     """Collect every two-field monomial into K_ij(p), simplify, and find the mixings."""
     groups: dict[tuple[Species, Species], list[Monomial]] = defaultdict(list)
     for mono in monomials:
         fields = mono.fields
         if len(fields) == 2:
+            _refuse_fermion_number_violation(model, mono)
             s1, s2 = sorted(species_of(model, a) for a in fields)
             groups[(s1, s2)].append(mono)
     entries: dict[Pair, Entry] = {}

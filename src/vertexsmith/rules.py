@@ -19,11 +19,11 @@ from .codegen import P2, compile_function, helper_namespace, vertex_function_sou
 from .conventions import MIXING_TEXT
 from .errors import UNKNOWN_SPAN, DerivationError, Span, UsageError, did_you_mean
 from .evaluation_inputs import ParameterValues, momentum_batch, values_for
-from .fermion_flow import FERMION_FLOW_TEXT
+from .fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT
 from .index_names import group_index_name, qualify_group_indices
 from .propagator import MU, NU, P, Propagator  # noqa: F401 - P, MU, NU: the propagator symbols, read from here too
 from .limits import TENSOR_ELEMENTS, check_budget, check_finite, tensor_elements
-from .structures import Structure, permutation_sign, relabel_legs, structure_sort_key
+from .structures import CHARGE_CONJUGATION, Structure, chains_need_legs, permutation_sign, relabel_legs, structure_sort_key
 from .symbolic import (factor_text, surely_symbolic, group_to_sympy, index_symbol, lorentz_to_sympy, momentum_symbol, to_latex)
 
 if TYPE_CHECKING:
@@ -165,7 +165,7 @@ class Vertex:
                     break
             else:
                 groups.append((term.coefficient, [(sympy.Integer(1), term)]))
-        wrap = any(len(t.structure.chains) > 1 for t in self.terms)
+        wrap = chains_need_legs(t.structure for t in self.terms)
         names = self._index_names()
         out = []
         for base, members in groups:
@@ -337,6 +337,11 @@ class Rules:
     quadratic: "QuadraticForm | None" = dataclasses.field(default=None, compare=False, repr=False)
 
     @property
+    def uses_charge_conjugation(self) -> bool:
+        """Whether a vertex has a chain with C (the model uses cc() of a Dirac field)."""
+        return any(CHARGE_CONJUGATION in c.matrices for v in self.vertices for t in v.terms for c in t.structure.chains)
+
+    @property
     def conventions(self) -> str:
         c = self.model.conventions
         covariant = "D = d - i g Q A" if c.covariant_sign == 1 else "D = d + i g Q A"
@@ -344,6 +349,8 @@ class Rules:
                  "unitary": "unitary gauge for massive vectors, Feynman gauge for massless ones"}[self.gauge]
         flow = f"; {FERMION_FLOW_TEXT}" if any(f.kind == "majorana" for f in self.model.fields.values()) else ""
         mixing = f"; {MIXING_TEXT}" if any(p.partner is not None for p in self.propagators) else ""
+        if self.uses_charge_conjugation:
+            flow += f"; {CHARGE_CONJUGATE_TEXT}"
         return f"{CONVENTIONS_TEXT}{flow}{mixing}; {covariant}; epsilon^{{0123}} = {c.eps0123:+d}; {gauge}"
 
     def vertex(self, *labels: str) -> Vertex:

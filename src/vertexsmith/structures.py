@@ -217,7 +217,11 @@ class Sigma:
 
 @dataclass(frozen=True)
 class Chiral:
-    """gamma5, PL = (1 - gamma5)/2 or PR = (1 + gamma5)/2."""
+    """gamma5, PL = (1 - gamma5)/2 or PR = (1 + gamma5)/2; or C, the charge-conjugation matrix.
+
+    C = i gamma^2 gamma^0 (fermion_flow.py) stands only at an end of a chain, where a cc() field
+    sits: bar(a) G cc(b) = bar(a) G C bar(b)^T and bar(cc(a)) G b = a^T C G b.
+    """
 
     kind: str
 
@@ -226,6 +230,13 @@ class Chiral:
 
 
 DiracMatrix = Union[Gamma, Sigma, Chiral]
+CHARGE_CONJUGATION = Chiral("C")
+
+
+def chains_need_legs(structures: Iterable["Structure"]) -> bool:
+    """Whether chains must be printed with their legs, chain(i, j, ...): several chains in a vertex, or a
+    chain with C, whose two ends are both bar legs or both plain legs (the leg order says nothing)."""
+    return any(len(s.chains) > 1 or any(CHARGE_CONJUGATION in c.matrices for c in s.chains) for s in structures)
 
 
 @dataclass(frozen=True)
@@ -347,6 +358,20 @@ _CHIRAL_THROUGH_GAMMA = {"gamma5": ("gamma5", -1), "PL": ("PR", 1), "PR": ("PL",
 
 
 def _canonical_chain(chain: Chain) -> tuple[int, Chain | None]:
+    """The canonical form of the matrices between a chain's C ends (which stay where they are)."""
+    head = chain.matrices[:1] == (CHARGE_CONJUGATION,)
+    tail = len(chain.matrices) > int(head) and chain.matrices[-1] == CHARGE_CONJUGATION
+    middle = chain.matrices[int(head):len(chain.matrices) - int(tail)]
+    if CHARGE_CONJUGATION in middle:  # pragma: no cover - derive puts C only at the ends
+        raise ValueError("C stands inside a chain")
+    sign, reduced = _canonical_middle(Chain(chain.bar_leg, chain.leg, middle))
+    if reduced is None:
+        return 0, None
+    return sign, Chain(chain.bar_leg, chain.leg, (CHARGE_CONJUGATION,) * head + reduced.matrices
+                       + (CHARGE_CONJUGATION,) * tail)
+
+
+def _canonical_middle(chain: Chain) -> tuple[int, Chain | None]:
     """Move gamma5 and the projectors to the right end and multiply them out.
 
     gamma5 anticommutes with gamma^mu (PL gamma^mu = gamma^mu PR) and commutes with sigma^{mu nu}.
@@ -542,5 +567,5 @@ def legs_in(slots: Iterable[Slot]) -> set[int]:
 
 __all__ = ["permutation_sign", "LegIndex", "Momentum", "Dummy", "LegGroupIndex", "GroupDummy", "StructureConstant", "Generator",
            "GroupDelta", "GroupAlternating", "ParamTensor", "GroupTensor", "Slot", "Metric", "Vector", "Dot", "Epsilon", "Tensor", "Gamma",
-           "Sigma", "Chiral", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
+           "Sigma", "Chiral", "CHARGE_CONJUGATION", "chains_need_legs", "DiracMatrix", "Chain", "Structure", "canonical_structure", "structure_sort_key",
            "momentum_slots", "replace_slot", "relabel_legs", "replace"]

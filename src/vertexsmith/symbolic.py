@@ -258,12 +258,14 @@ class Component(sympy.Function):
 Gamma5 = sympy.Symbol("gamma5", commutative=False)
 ProjL = sympy.Symbol("PL", commutative=False)
 ProjR = sympy.Symbol("PR", commutative=False)
-_CHIRAL_SYMBOLS = {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR}
-LATEX_NAMES = {Gamma5: r"\gamma^5", ProjL: "P_L", ProjR: "P_R"}
+# the charge-conjugation matrix C = i gamma^2 gamma^0 at the ends of a chain with a cc() field
+ChargeConj = sympy.Symbol("CC", commutative=False)
+_CHIRAL_SYMBOLS = {"gamma5": Gamma5, "PL": ProjL, "PR": ProjR, "C": ChargeConj}
+LATEX_NAMES = {Gamma5: r"\gamma^5", ProjL: "P_L", ProjR: "P_R", ChargeConj: r"\mathcal{C}"}
 
 # the functions of the output vocabulary that are written with round brackets
 NAMESPACE: dict[str, Any] = {"dot": Dot, "slash": Slash, "chain": Chain, "conj": sympy.conjugate,
-                             "gamma5": Gamma5, "PL": ProjL, "PR": ProjR, "I": sympy.I, "pi": sympy.pi}
+                             "gamma5": Gamma5, "PL": ProjL, "PR": ProjR, "CC": ChargeConj, "I": sympy.I, "pi": sympy.pi}
 
 
 def _with_powers(cls: type) -> None:

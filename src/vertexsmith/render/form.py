@@ -265,7 +265,7 @@ class _Structure:
                 parts.append(f"i_/2*(g_({line},{a},{b}) - g_({line},{b},{a}))")
             elif isinstance(mat, Chiral):
                 parts.append({"gamma5": f"g5_({line})", "PL": f"(gi_({line}) - g5_({line}))/2",
-                              "PR": f"(gi_({line}) + g5_({line}))/2"}[mat.kind])
+                              "PR": f"(gi_({line}) + g5_({line}))/2", "C": f"vsC({line})"}[mat.kind])
         return "*".join(p if not p.startswith("i_/2") else f"({p})" for p in parts)
 
 
@@ -502,6 +502,13 @@ def render_form(rules: Rules) -> str:
         "Contracted indices r1, r2, ... (Lorentz) and e1<group>, e2<group>, ... (group) are dummies: when one "
         "term can hold two copies of such a vertex, substitute with 'id once' in a repeat loop and rename the "
         "dummies (sum r1;) after each substitution.")
+    if rules.uses_charge_conjugation:
+        header += _comment_block(
+            "vsC(j) is the charge-conjugation matrix C = i gamma^2 gamma^0 on spin line j; it stands at the end "
+            "of a chain with a charge-conjugate field: bar(a) G cc(b) = bar(a) G C bar(b)^T. FORM has no "
+            "transposition: read such a line along its fermion flow (with the external spinors u/v of the "
+            "flow, ubar(b) C^T... = v(b)), i.e. replace vsC(j) by gi_(j) and the spinor of b by v(b); "
+            "C gamma^mu^T C^-1 = -gamma^mu, gamma5 and the projectors are unchanged.")
     if names.renamed:
         header += ["*"] + _comment_block("Renamed for FORM: " + ", ".join(f"{new} = {old}"
                                                                            for new, old in names.renamed) + ".")
@@ -512,7 +519,7 @@ def render_form(rules: Rules) -> str:
                       f"Vectors {_sorted(declared['vectors'])};",
                       f"Indices {', '.join(indices)};",
                       "* non-commuting, so that spin lines keep their order",
-                      "Functions vtx, prop;",
+                      "Functions vtx, prop, vsC;" if rules.uses_charge_conjugation else "Functions vtx, prop;",
                       f"CFunctions {', '.join(functions)};", "",
                       "* substitutions, run where the program calls them",
                       "#procedure vsvertices()"]

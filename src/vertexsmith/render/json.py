@@ -27,7 +27,7 @@ from typing import TYPE_CHECKING, Any
 import sympy
 
 from ..conventions import MIXING_TEXT
-from ..fermion_flow import FERMION_FLOW_TEXT
+from ..fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT
 from ..symbolic import factor_text, to_latex
 
 if TYPE_CHECKING:
@@ -70,7 +70,8 @@ def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
                                 "the leg fields); symmetry factors included",
         "fermion_legs": "bar leg first; the factor is the Dirac matrix Gamma_(alpha beta) between bar(psi) "
                         "(index alpha) and psi (index beta); Grassmann sign from ordering the fields as "
-                        "the legs list them" + (f"; {FERMION_FLOW_TEXT}" if majorana else ""),
+                        "the legs list them" + (f"; {FERMION_FLOW_TEXT}" if majorana else "")
+                        + (f"; {CHARGE_CONJUGATE_TEXT}" if rules.uses_charge_conjugation else ""),
         "covariant_derivative": {"sign": c.covariant_sign,
                                  "form": f"D_mu = d_mu {sign} i g Q A_mu (U(1) charge Q), "
                                          f"D_mu = d_mu {sign} i g T^a A^a_mu (SU(N))"},
@@ -202,7 +203,7 @@ def _propagator(model: "Model", p: "Propagator") -> dict[str, Any]:
         "field": p.field,
         "partner": p.partner,
         "label": p.label,
-        "kind": p.kind,
+        "kind": p.field_kind,
         "momentum": p.momentum,
         "indices": list(p.indices),
         "factor": {"text": factor_text(p.factor), "latex": p.latex},

@@ -136,7 +136,7 @@ def propagator_rich(propagator: "Propagator") -> Any:
     table = Table(show_edge=False)
     for heading in ("field", "kind", "indices", "propagator (p along the arrow)"):
         table.add_column(heading)
-    table.add_row(*_cells(propagator.label, propagator.kind, " ".join(propagator.indices) or "-",
+    table.add_row(*_cells(propagator.label, propagator.field_kind, " ".join(propagator.indices) or "-",
                           _factor_text(propagator.factor)))
     return table
 

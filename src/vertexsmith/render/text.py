@@ -23,7 +23,7 @@ from rich.cells import cell_len
 from sympy.printing.precedence import PRECEDENCE
 from sympy.printing.str import StrPrinter
 
-from ..symbolic import Gamma5, ProjL, ProjR
+from ..symbolic import ChargeConj, Gamma5, ProjL, ProjR
 from . import top_level_cuts
 from ._table import Block, Column, Grid, Table, lay_out, natural_width, rich_lines
 from .json import conventions_to_dict
@@ -43,7 +43,7 @@ _GREEK_INDICES = {"mu": "μ", "nu": "ν", "rho": "ρ"}
 # the last possibly qualified by their group when a leg carries several: i1_color
 _LORENTZ_NAME = re.compile(r"^(mu|nu|rho|p)([0-9]*)$")
 _LETTER_NAME = re.compile(r"^([a-z])([0-9]+)(?:_([A-Za-z0-9_]+))?$")
-_CHIRAL_NAMES = {Gamma5: "γ⁵", ProjL: "P_L", ProjR: "P_R"}
+_CHIRAL_NAMES = {Gamma5: "γ⁵", ProjL: "P_L", ProjR: "P_R", ChargeConj: "C"}
 _SLASHED_PREFIX = "slashed:"  # placeholder symbols inside a slashed sum, printed as p̸ₖ
 
 
@@ -384,7 +384,7 @@ def _propagator_text(p: "Propagator") -> str:
 
 def _propagator_table(rules: "Rules", width: int) -> Table:
     columns = (Column("field"), Column("kind"), Column("indices"), Column("propagator"))
-    rows = [(p.label, p.kind, " ".join(index_name(i) for i in p.indices) or "–") for p in rules.propagators]
+    rows = [(p.label, p.field_kind, " ".join(index_name(i) for i in p.indices) or "–") for p in rules.propagators]
     # as for vertices: the room left for the propagator, broken between terms, never inside brackets
     used = sum(max([cell_len(columns[k].header)] + [cell_len(row[k]) for row in rows]) for k in range(3))
     limit = max(16, width - used - 12)
