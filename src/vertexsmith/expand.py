@@ -8,10 +8,9 @@ use; `+ h.c.` appends the hermitian conjugate of its sum.
 
 from __future__ import annotations
 
-import dataclasses
 import itertools
 from dataclasses import dataclass, replace
-from typing import Callable, Union
+from typing import Callable
 
 import sympy
 
@@ -19,87 +18,13 @@ from . import limits
 from . import model as m
 from .errors import DerivationError, ModelMeaningError, Span
 from .symbolic import is_plain_product  # noqa: F401 - derive reads it from here too
-from .fermion_flow import reversed_chain
+from .atoms import Atom, DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom
+from .chain_flow import orient_majorana_chains
 from .alternating import contract_alternating
 
 MAX_MONOMIALS_PER_TERM = limits.TERMS_PER_LINE.limit
 MAX_MONOMIALS = limits.MONOMIALS.limit
 MAX_FIELDS_PER_MONOMIAL = limits.LEGS.limit
-
-
-@dataclass(frozen=True)
-class FieldAtom:
-    """One field factor: field name, conjugation (bar/dag), Lorentz index, derivative indices."""
-
-    field: str
-    conjugate: bool
-    index: str | None
-    derivatives: tuple[str, ...]
-    span: Span = dataclasses.field(compare=False)
-    group_indices: tuple[tuple[str, str | None], ...] = ()  # (group, index); None until implied ones are fixed
-    charge_conjugate: bool = False  # cc(psi) / bar(cc(psi)): see model.LField
-
-    @property
-    def opens_chain(self) -> bool:
-        """Whether the factor stands at the row (bar) end of a spinor chain: bar(psi) or bar(cc(psi))."""
-        return self.conjugate != self.charge_conjugate
-
-    def group_index(self, group: str) -> str | None:
-        return dict(self.group_indices).get(group)
-
-
-@dataclass(frozen=True)
-class DiracAtom:
-    """A Dirac matrix inside a spinor chain: gamma, gamma5, PL, PR, sigma."""
-
-    kind: str
-    indices: tuple[str, ...]
-    span: Span = dataclasses.field(compare=False)
-
-
-@dataclass(frozen=True)
-class TensorAtom:
-    """A numeric Lorentz tensor: g or eps."""
-
-    kind: str
-    indices: tuple[str, ...]
-    span: Span = dataclasses.field(compare=False)
-
-
-@dataclass(frozen=True)
-class GroupAtom:
-    """A group tensor of a non-abelian group: T (indices (a,) inside a chain, or (a, i, j)), f, delta."""
-
-    kind: str
-    group: str
-    indices: tuple[str, ...]
-    span: Span = dataclasses.field(compare=False)
-
-
-@dataclass(frozen=True)
-class ParamAtom:
-    """A component of a vector or matrix parameter, Y[i,j], or its complex conjugate."""
-
-    name: str
-    indices: tuple[str, ...]
-    conjugate: bool
-    span: Span = dataclasses.field(compare=False)
-
-
-Atom = Union[FieldAtom, DiracAtom, TensorAtom, GroupAtom, ParamAtom]
-
-
-@dataclass(frozen=True)
-class Monomial:
-    """coefficient x atoms (in written order). `origin` is the Lagrangian line it came from."""
-
-    coefficient: sympy.Expr
-    atoms: tuple[Atom, ...]
-    origin: Span = dataclasses.field(compare=False)
-
-    @property
-    def fields(self) -> tuple[FieldAtom, ...]:
-        return tuple(a for a in self.atoms if isinstance(a, FieldAtom))
 
 
 def conjugate_param(model: m.Model, atom: ParamAtom) -> ParamAtom:
@@ -522,93 +447,3 @@ def expand_model(model: m.Model) -> tuple[Monomial, ...]:
             isinstance(a, FieldAtom) and a.charge_conjugate for mono in out for a in mono.atoms):
         out = [flowed for mono in out for flowed in orient_majorana_chains(model, mono)]
     return tuple(out)
-
-
-# ------------------------------------------------------------------ Majorana chains and fermion flow
-
-def _chains(model: m.Model, atoms: tuple[Atom, ...]) -> list[tuple[int, list[int], int]]:
-    """(bar atom, Dirac atoms, closing atom) positions of each spinor chain, in written order."""
-    chains: list[tuple[int, list[int], int]] = []
-    start: int | None = None
-    inside: list[int] = []
-    for k, atom in enumerate(atoms):
-        if isinstance(atom, DiracAtom) and start is not None:
-            inside.append(k)
-        elif isinstance(atom, FieldAtom) and model.fields[atom.field].is_fermion:
-            if atom.opens_chain and start is None:
-                start, inside = k, []
-            elif not atom.opens_chain and start is not None:
-                chains.append((start, inside, k))
-                start = None
-    return chains
-
-
-def _reverse_chain(model: m.Model, mono: Monomial, chain: tuple[int, list[int], int]) -> Monomial:
-    """bar(a) G b rewritten as bar(b^c) G' a^c with G' = C G^T C^-1, an identity for anticommuting fields.
-
-    For a Majorana field a^c = a, so the reversed chain is bar(b) G' a; for a Dirac field the end
-    toggles between psi and cc(psi) (cc(cc(psi)) = psi, since C C^T = 1).
-    The fields keep their derivatives and indices; the Dirac matrices take the chain's positions in
-    reversed order, and the sign is that of C G^T C^-1 (see fermion_flow.py). Atoms that stand
-    between the two fields (a boson, a ghost) stay where they are: moving a Grassmann factor past
-    the first field and back costs two signs, which cancel.
-    """
-    start, inside, end = chain
-    atoms = list(mono.atoms)
-    bar_atom, plain_atom = atoms[start], atoms[end]
-    assert isinstance(bar_atom, FieldAtom) and isinstance(plain_atom, FieldAtom)
-    kinds = [atoms[k].kind for k in inside]  # type: ignore[union-attr]
-    sign, matrices = reversed_chain(kinds, [atoms[k] for k in inside])
-    atoms[start] = _flip_end(model, plain_atom)
-    atoms[end] = _flip_end(model, bar_atom)
-    for k, matrix in zip(inside, matrices):
-        atoms[k] = matrix
-    return Monomial(sign * mono.coefficient, tuple(atoms), mono.origin)
-
-
-def _flip_end(model: m.Model, atom: FieldAtom) -> FieldAtom:
-    """The other end of a reversed chain: a Majorana field changes its bar, a Dirac field its cc()."""
-    if model.fields[atom.field].kind == "majorana":
-        return replace(atom, conjugate=not atom.conjugate)
-    return replace(atom, charge_conjugate=not atom.charge_conjugate)
-
-
-def _cc_count(model: m.Model, atoms: tuple[FieldAtom, FieldAtom]) -> tuple[int, int]:
-    """How many ends of a chain carry C now, and how many would after reversing it."""
-    dirac = [a for a in atoms if model.fields[a.field].kind != "majorana"]
-    return sum(a.charge_conjugate for a in dirac), sum(not a.charge_conjugate for a in dirac)
-
-
-def orient_majorana_chains(model: m.Model, mono: Monomial) -> list[Monomial]:
-    """A monomial in fermion-flow form: the monomials whose vertices have flow-ordered Majorana legs.
-
-    A Majorana field is its own conjugate, so a chain bar(a) G b between Majorana fields equals
-    bar(b) G' a (Denner, Eck, Hahn & Kuebbeck, Nucl. Phys. B 387 (1992) 467, from memory).
-    - Two different Majorana fields: the chain is turned so that its bar end is the field declared
-      first; a term and its reversed partner then land on one vertex and add up.
-    - The same field at both ends (bar(chi) G chi): both readings are kept, each with the full
-      coefficient, because the functional derivative fills the bar-end leg with either factor. The
-      vertex is then i (G + G'): 2 i G for S, P and A, zero for V and T (the Majorana vector
-      current vanishes), and 1/2 bar(chi) (i gamma.d - m) chi gives the Dirac kernel.
-    """
-    order = {name: k for k, name in enumerate(model.fields)}
-    out = [mono]
-    for chain in reversed(_chains(model, mono.atoms)):  # from the right: positions to the left stay valid
-        start, _, end = chain
-        a, b = mono.atoms[start], mono.atoms[end]
-        assert isinstance(a, FieldAtom) and isinstance(b, FieldAtom)
-        if a.charge_conjugate or b.charge_conjugate:
-            # a chain with a Dirac cc() end is read the way with fewer C matrices (none when the other end is
-            # Majorana or both ends are cc()); with one C either way, C goes to the field declared later
-            now, after = _cc_count(model, (a, b))
-            conjugated, other = (a, b) if a.charge_conjugate else (b, a)
-            if after < now or (after == now and order[conjugated.field] < order[other.field]):
-                out = [_reverse_chain(model, one, chain) for one in out]
-            continue
-        if model.fields[a.field].kind != "majorana" or model.fields[b.field].kind != "majorana":
-            continue
-        if a.field == b.field:
-            out = out + [_reverse_chain(model, one, chain) for one in out]
-        elif order[a.field] > order[b.field]:
-            out = [_reverse_chain(model, one, chain) for one in out]
-    return out

@@ -34,7 +34,7 @@ import sympy
 
 from . import top_level_cuts
 from ..rules import P2, Propagator, Rules, Vertex
-from ..structures import (Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
+from ..structures import (CHARGE_CONJUGATION, Chain, Chiral, Dot, Dummy, Epsilon, Gamma, Generator, GroupAlternating, GroupDelta,
                           GroupDummy,
                           LegGroupIndex, LegIndex, Metric, Momentum, ParamTensor, Sigma, Slot, Structure, StructureConstant,
                           Vector)
@@ -346,7 +346,13 @@ def _vertex_statement(vertex: Vertex, names: _Names, printer: _Printer, group_fu
             terms.append(_times(printer(coefficient), writer.product(structure)))
     body = _join(terms)
     head = f"id vtx({','.join(arguments)}) ="
-    return _wrap(f"{head} {body};")
+    # a line with C joins two bar legs or two plain ones: name its row and column ends
+    flows = sorted({(lines[(c.bar_leg, c.leg)], c.bar_leg, c.leg) for t in vertex.terms for c in t.structure.chains
+                    if CHARGE_CONJUGATION in c.matrices})
+    notes = [f"* spin line {line}: row {_leg_label(legs[row - 1].label, names)} (leg {row}), column "
+             f"{_leg_label(legs[column - 1].label, names)} (leg {column})"
+             for line, row, column in flows]
+    return "\n".join(notes + [_wrap(f"{head} {body};")])
 
 
 def _times(coefficient: str, product: str) -> str:
@@ -504,11 +510,12 @@ def render_form(rules: Rules) -> str:
         "dummies (sum r1;) after each substitution.")
     if rules.uses_charge_conjugation:
         header += _comment_block(
-            "vsC(j) is the charge-conjugation matrix C = i gamma^2 gamma^0 on spin line j; it stands at the end "
-            "of a chain with a charge-conjugate field: bar(a) G cc(b) = bar(a) G C bar(b)^T. FORM has no "
-            "transposition: read such a line along its fermion flow (with the external spinors u/v of the "
-            "flow, ubar(b) C^T... = v(b)), i.e. replace vsC(j) by gi_(j) and the spinor of b by v(b); "
-            "C gamma^mu^T C^-1 = -gamma^mu, gamma5 and the projectors are unchanged.")
+            "vsC(j) is the charge-conjugation matrix C = i gamma^2 gamma^0 on spin line j; it stands at an end "
+            "of a line with a charge-conjugate field: bar(a) G cc(b) = bar(a) G C bar(b)^T, and a comment "
+            "above each such vertex names the line's row and column legs. FORM has no transposition: read "
+            "the line along its fermion flow, where ubar(a) G C ubar(b)^T = ubar(a) G v(b) since "
+            "v = C ubar^T: replace vsC(j) by gi_(j) and put the v (or u) spinor of the column leg at that "
+            "end. C gamma^mu^T C^-1 = -gamma^mu; gamma5 and the projectors are unchanged.")
     if names.renamed:
         header += ["*"] + _comment_block("Renamed for FORM: " + ", ".join(f"{new} = {old}"
                                                                            for new, old in names.renamed) + ".")
@@ -519,7 +526,7 @@ def render_form(rules: Rules) -> str:
                       f"Vectors {_sorted(declared['vectors'])};",
                       f"Indices {', '.join(indices)};",
                       "* non-commuting, so that spin lines keep their order",
-                      "Functions vtx, prop, vsC;" if rules.uses_charge_conjugation else "Functions vtx, prop;",
+                      "Functions vtx, prop;"] + (["Functions vsC;"] if rules.uses_charge_conjugation else []) + [
                       f"CFunctions {', '.join(functions)};", "",
                       "* substitutions, run where the program calls them",
                       "#procedure vsvertices()"]

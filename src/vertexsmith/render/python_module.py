@@ -29,6 +29,7 @@ from sympy.printing.numpy import NumPyPrinter
 from ..model import Parameter
 from ..codegen import (HELPERS_SOURCE, axes_text, axis_sizes, coefficient_code, propagator_function_source,
                        vertex_function_source)
+from ..fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT
 from ..rules import Rules
 from ..symbolic import _bracket_calls, factor_text
 
@@ -207,6 +208,11 @@ def _conventions_block(rules: Rules) -> str:
                    "one axis per group index"),
         ("text", rules.conventions),
     ]
+    if any(f.kind == "majorana" for f in rules.model.fields.values()):
+        entries.insert(4, ("fermion_flow", FERMION_FLOW_TEXT))
+    if rules.uses_charge_conjugation:
+        # C is the array _CC of this module; CC in SYMBOLIC texts
+        entries.insert(4, ("charge_conjugation", CHARGE_CONJUGATE_TEXT + "; the array _CC of this module"))
     lines = ["CONVENTIONS = {"]
     for key, value in entries:
         lines.append(f"    {key!r}: {value!r},")
@@ -276,7 +282,7 @@ def symbolic(name):
                   "slash": sympy.Function("slash", commutative=False),
                   "chain": sympy.Function("chain", commutative=False), "dot": sympy.Function("dot"),
                   "conj": sympy.conjugate, "I": sympy.I, "pi": sympy.pi, "Symbol": sympy.Symbol})
-    names.update({n: sympy.Symbol(n, commutative=False) for n in ("gamma5", "PL", "PR")})
+    names.update({n: sympy.Symbol(n, commutative=False) for n in ("gamma5", "PL", "PR", "CC")})
     names.update({n: sympy.Symbol(n) for n in PARAMETER_NAMES})
     transformations = (_bracket_calls,) + standard_transformations + (convert_xor,)
     return parse_expr(SYMBOLIC[name], local_dict=names, transformations=transformations)
