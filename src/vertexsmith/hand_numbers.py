@@ -389,10 +389,14 @@ class HandNumeric:
             if inner.momentum or inner.fermions:
                 raise ctx.error("the third argument of chain() is a Dirac matrix", args[2].span)
             matrix = inner.array if inner.matrix else np.multiply.outer(inner.array, IDENTITY4)
-            if not (ctx.legs[i - 1].conjugate and ctx.legs[i - 1].kind in ("dirac", "majorana")):
-                raise ctx.error(f"leg {i} of chain() must be a bar() fermion leg", args[0].span)
-            if ctx.legs[j - 1].conjugate or ctx.legs[j - 1].kind not in ("dirac", "majorana"):
-                raise ctx.error(f"leg {j} of chain() must be a fermion leg without bar()", args[1].span)
+            # a C at an end (a cc() field) turns that end around: bar(a) G CC ends on a bar() leg
+            c_first, c_last = _charge_conjugation_ends(args[2])
+            if not (ctx.legs[i - 1].conjugate != c_first and ctx.legs[i - 1].kind in ("dirac", "majorana")):
+                wanted = "fermion leg without bar()" if c_first else "bar() fermion leg"
+                raise ctx.error(f"leg {i} of chain() must be a {wanted}", args[0].span)
+            if ctx.legs[j - 1].conjugate != c_last or ctx.legs[j - 1].kind not in ("dirac", "majorana"):
+                wanted = "bar() fermion leg" if c_last else "fermion leg without bar()"
+                raise ctx.error(f"leg {j} of chain() must be a {wanted}", args[1].span)
             return HandValue(matrix, inner.axes + (f"#s{i}", f"#s{j}"), False, False, tuple(sorted((i, j))))
         functions: dict[str, Callable[[complex], Any]] = {
             "sqrt": np.sqrt, "conj": np.conj, "sin": np.sin, "cos": np.cos, "tan": np.tan,
@@ -492,3 +496,11 @@ def propagator_layout(ctx: HandContext, value: HandValue, span: Span) -> np.ndar
         for _, _, dim in representations:
             array = np.multiply.outer(array, np.eye(dim))
     return array
+
+
+def _charge_conjugation_ends(node: HNode) -> tuple[bool, bool]:
+    """Whether a chain's matrix product starts and ends with CC, the charge-conjugation matrix."""
+    factors = list(node.factors) if isinstance(node, HProduct) else [node]
+    first, last = factors[0], factors[-1]
+    return (isinstance(first, HName) and first.name == "CC", isinstance(last, HName) and last.name == "CC")
+
