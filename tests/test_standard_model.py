@@ -74,20 +74,24 @@ def test_the_unbroken_standard_model_checks_clean_but_for_the_tachyonic_doublet(
                              "mass^2 = -muH^2: the field is expanded around a maximum of its potential")
 
 
-def test_the_down_type_yukawa_carries_the_ckm_matrix(sm) -> None:
-    # -CKM[i,j] Yd[j,k] bar(Q[i]) H PR dR[k] + h.c.: the vertex (bar(Q), dR, H) is -i (CKM Yd)_{ik} PR
-    # times colour and weak deltas (common practice, no source): compare component (i, k) = (1, 3)
+def test_the_up_type_yukawa_carries_the_ckm_matrix(sm) -> None:
+    # -conj(CKM[j,i]) Yu[j,k] bar(Q[c,l,i]) Hc[l] PR uR[c,k] + h.c. with Hc[l] = alt[l,m] dag(H[m]):
+    # the vertex (bar(Q[i]), uR[k], dag(H)) is -i conj(CKM[k,i]) sqrt2 m_k/v PR alt[l,m] delta_colour
+    # (common practice, no source); alt[1,2] = +1 puts conj(phi0) in the upper slot of Hc, so the
+    # up-type masses come out positive once H takes its vacuum value
     rules = sm.derive(unroll=True)
     v = float(_value(sm, "v").real)
-    expected = -1j * _value(sm, "CKM")[0, 2] * np.sqrt(2) * 4.183 / v
-    vertex = rules.vertex("bar(Q[1])", "dR[3]", "H")
-    # legs: bar(Q) (spinor, colour, weak), dR (spinor, colour), H (weak)
-    array = vertex.evaluate([np.zeros(4)] * 3)
-    assert array.shape == (4, 3, 2, 4, 3, 2)
-    spinor = array[:, 0, 1, :, 0, 1]  # colour 1 with 1, weak 2 with 2 (the doublet's lower member)
-    assert np.allclose(spinor, expected * PR_MATRIX)
-    assert abs(expected) > 5e-5
-    assert np.allclose(array[:, 0, 0, :, 0, 1], 0)  # weak 1 with 2: no coupling
+    expected = -1j * np.conj(_value(sm, "CKM")[2, 0]) * np.sqrt(2) * 172.57 / v
+    array = rules.vertex("bar(Q[1])", "uR[3]", "dag(H)").evaluate([np.zeros(4)] * 3)
+    assert array.shape == (4, 3, 2, 4, 3, 2)  # bar(Q): spinor, colour, weak; uR: spinor, colour; dag(H): weak
+    assert np.allclose(array[:, 0, 0, :, 0, 1], expected * PR_MATRIX)  # Q upper with H lower: alt[1,2] = +1
+    assert np.allclose(array[:, 0, 1, :, 0, 0], -expected * PR_MATRIX)  # alt[2,1] = -1
+    assert np.allclose(array[:, 0, 0, :, 0, 0], 0)
+    assert np.allclose(array[:, 0, 0, :, 1, 1], 0)  # colour is conserved
+    assert abs(expected) > 5e-3
+    # the down-type Yukawa is diagonal in this basis: no (bar(Q[1]), dR[3], H) vertex
+    with pytest.raises(VertexsmithError):
+        rules.vertex("bar(Q[1])", "dR[3]", "H")
 
 
 def test_the_singlet_model_builds_on_the_standard_model() -> None:
@@ -115,20 +119,20 @@ def test_a_wrong_hypercharge_is_reported_at_the_terms_it_breaks(tmp_path: Path) 
     path = _copy(tmp_path, "charge hyper -1/3", "charge hyper 1/3")
     errors = [d for d in load_model(path).check() if d.severity == "error"]
     lines = {(d.span.line, d.message) for d in errors}
-    assert (58, "term is not neutral under 'hyper': its net charge is ±2/3") in lines
+    assert (59, "term is not neutral under 'hyper': its net charge is ±2/3") in lines  # the down Yukawa
     assert all(d.hint for d in errors)
 
 
 def test_a_missing_generation_index_is_a_positioned_error(tmp_path: Path) -> None:
-    path = _copy(tmp_path, "PR uR[c,j] + h.c.", "PR uR[c] + h.c.")
+    path = _copy(tmp_path, "PR uR[c,k] + h.c.", "PR uR[c] + h.c.")
     with pytest.raises(VertexsmithError) as caught:
         load_model(path).derive()
     error = caught.value
-    assert (error.span.line, error.span.column) == (59, 39)
-    # read as a generation index, 'c' clashes with its colour use in bar(Q[c,k,i]) on the same line
-    assert error.message == "index 'c' is an index of the space gen here but an index of the group color at line 59, column 19"
+    assert (error.span.line, error.span.column) == (60, 54)
+    # read as a generation index, 'c' clashes with its colour use in bar(Q[c,l,i]) on the same line
+    assert error.message == "index 'c' is an index of the space gen here but an index of the group color at line 60, column 34"
     assert error.hint
-    assert str(error).startswith(f"{path}:59:39: error:")
+    assert str(error).startswith(f"{path}:60:54: error:")
 
 
 def test_a_wide_matrix_is_listed_entry_by_entry_in_latex(sm) -> None:
