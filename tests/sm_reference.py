@@ -11,8 +11,9 @@ How their sign parameters map onto ours (README, Conventions):
 - Their covariant derivative carries a sign eta in front of each coupling,
   D = d - i eta g T.W - i eta' g' Y B - i eta_s g_s T.G  (from memory). Our `covariant minus`
   (the default, D = d - i g ...) is eta = eta' = eta_s = +1; `covariant plus` is all three -1.
-  Every vertex odd in the gauge couplings (counting e, g, g', g_s and, through m_W = g v/2, not the
-  masses) changes sign with them: `flip_sign` below says which entries do.
+  Every vertex odd in the gauge couplings changes sign with them; `Rule.odd` says which entries
+  are (a vector mass counts as one coupling, m_W = g v/2, so e m_W is even; the Yukawa couplings
+  and the scalar potential do not change at all).
 - Their Z/A rotation sign (eta_Z, from memory) is +1 here: Z = c W3 - s B, A = s W3 + c B, so
   e = g s = g' c > 0 and Q = T3 + Y.
 - W+ = (W1 - i W2)/sqrt(2) is our complex field `W` (leg `W`: an incoming W+ or outgoing W-);
@@ -175,11 +176,11 @@ def table() -> list[Rule]:
              metric(lambda pt: pt.g ** 2 * (pt.cw ** 2 - pt.sw ** 2) ** 2 / (2 * pt.cw ** 2)), False),
         Rule(("A", "Z", "Gp", "dag(Gp)"), "Goldstone-gauge",
              metric(lambda pt: pt.e * pt.g * (pt.cw ** 2 - pt.sw ** 2) / pt.cw), False),
-        # W G V with one vev: (g v/2) G- W+ (e A - g sw^2/cw Z) + h.c.
-        Rule(("W", "dag(Gp)", "A"), "Goldstone-gauge", metric(lambda pt: pt.e * pt.mw), True),
-        Rule(("dag(W)", "Gp", "A"), "Goldstone-gauge", metric(lambda pt: pt.e * pt.mw), True),
-        Rule(("W", "dag(Gp)", "Z"), "Goldstone-gauge", metric(lambda pt: -pt.g * pt.mz * pt.sw ** 2), True),
-        Rule(("dag(W)", "Gp", "Z"), "Goldstone-gauge", metric(lambda pt: -pt.g * pt.mz * pt.sw ** 2), True),
+        # W G V with one vev: (g v/2) G- W+ (e A - g sw^2/cw Z) + h.c. (even: e mW = e g v/2)
+        Rule(("W", "dag(Gp)", "A"), "Goldstone-gauge", metric(lambda pt: pt.e * pt.mw), False),
+        Rule(("dag(W)", "Gp", "A"), "Goldstone-gauge", metric(lambda pt: pt.e * pt.mw), False),
+        Rule(("W", "dag(Gp)", "Z"), "Goldstone-gauge", metric(lambda pt: -pt.g * pt.mz * pt.sw ** 2), False),
+        Rule(("dag(W)", "Gp", "Z"), "Goldstone-gauge", metric(lambda pt: -pt.g * pt.mz * pt.sw ** 2), False),
         # ... and with h or G0 instead of the vev: (g/2) G- W+ (h + i G0)(e A - g sw^2/cw Z) + h.c.
         Rule(("W", "dag(Gp)", "A", "h"), "Goldstone-gauge", metric(lambda pt: pt.e * pt.g / 2), False),
         Rule(("W", "dag(Gp)", "Z", "h"), "Goldstone-gauge",

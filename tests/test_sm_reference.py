@@ -189,5 +189,5 @@ def test_the_table_counts_by_type() -> None:
                 "Goldstone-gauge": 6 + 4 + 5 + 4, "scalar self": 9, "Yukawa": 2, "Goldstone-fermion": 4,
                 "ghost-scalar": 2, "ghost-gauge": 2}
     assert Counter(r.kind for r in table()) == expected
-    # odd in the gauge couplings: 11 gauge-fermion, 2 triple, 4 W G V, 3 Higgs and 4 Goldstone derivative, 2 ghost
-    assert sum(r.odd for r in table()) == 11 + 2 + 4 + 3 + 4 + 2
+    # odd in the gauge couplings: 11 gauge-fermion, 2 triple, 3 Higgs and 4 Goldstone derivative, 2 ghost
+    assert sum(r.odd for r in table()) == 11 + 2 + 3 + 4 + 2
