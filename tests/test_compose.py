@@ -167,7 +167,10 @@ def test_a_later_convention_replaces_an_earlier_one(tmp_path: Path) -> None:
      4, 3, "parameter 'm' is declared again with other words"),
     ({"top.vsm": 'theory t "x"\nbuilds on "base.vsm"\ndefine\n  J = phi\n',
       "base.vsm": BASE.replace("lagrangian", "define\n  J = phi^2\n\nlagrangian")}, 4, 3, "definition 'J' is declared again"),
-], ids=["itself", "circle", "missing", "empty", "folder", "field-twice", "parameter-words", "definition-twice"])
+    ({"top.vsm": 'theory t "x"\nbuilds on "' + "x" * 5000 + '"\n'}, 2, 11,
+     "cannot use the path '" + "x" * 60 + "': File name too long"),
+], ids=["itself", "circle", "missing", "empty", "folder", "field-twice", "parameter-words", "definition-twice",
+        "name-too-long"])
 def test_bad_bases_are_positioned_errors(tmp_path: Path, files: dict[str, str], line: int, column: int,
                                          message: str) -> None:
     _write(tmp_path, files)

@@ -162,6 +162,14 @@ def _check_same_words(earlier: Any, later: Any) -> None:
 
 def _resolve(base: sx.BaseDecl, folder: tuple[Path, str]) -> tuple[Path, str]:
     """The file a `builds on` line names (its resolved path, and the name errors show it under)."""
+    try:
+        return _find(base, folder)
+    except OSError as exc:  # a name too long for the file system, a loop of links...
+        raise ModelMeaningError(f"cannot use the path '{base.path[:60]}': {exc.strerror or exc}", base.span,
+                                "name a model file by a short relative path") from None
+
+
+def _find(base: sx.BaseDecl, folder: tuple[Path, str]) -> tuple[Path, str]:
     written = base.path.strip()
     if not written:
         raise ModelMeaningError("'builds on' names no file", base.span, 'write builds on "other_model.vsm"')
@@ -178,7 +186,8 @@ def _resolve(base: sx.BaseDecl, folder: tuple[Path, str]) -> tuple[Path, str]:
                                 "name a .vsm file inside it")
     nearby = [p.name for p in candidate.parent.glob("*.vsm")] if candidate.parent.is_dir() else []
     close = did_you_mean(Path(written).name, nearby)
-    raise ModelMeaningError(f"no model file '{written}' next to this file", base.span,
+    where = "" if Path(written).is_absolute() else " next to this file"
+    raise ModelMeaningError(f"no model file '{written}'{where}", base.span,
                             (close + " " if close else "") + f"paths are relative to the folder of the file that "
                             f"names them ({directory}); a shipped model may be named alone")
 
