@@ -177,3 +177,58 @@ def test_the_vacuum_gives_the_masses(standard, labels: tuple[str, ...]) -> None:
     expected = {("h", "h"): -1j * point.mh ** 2, ("W", "dag(W)"): 1j * point.mw ** 2 * ETA,
                 ("Z", "Z"): 1j * point.mz ** 2 * ETA, ("bar(d)", "d"): -1j * point.mf[1] * ONE}[labels]
     assert np.allclose(two_point, expected, rtol=1e-9)
+
+
+def test_charged_current_scattering_does_not_depend_on_the_gauge_parameter(standard) -> None:
+    """u(p1) d(p2) -> d(p3) u(p4) by W and Gp exchange, u the top and d the down quark.
+
+    The xi-dependent part of the W propagator, contracted with the quark currents, is proportional
+    to the quark masses (q.J = ubar (m_d PL - m_u PR ...) u); the charged Goldstone, whose couplings
+    are the masses, cancels it, so the summed |M|^2 is the same for xi_W = 0, 1, 5 and in unitary
+    gauge, where no Goldstone is exchanged (common practice, e.g. Cheng & Li ch. 8, from memory).
+    The vertices are the derived ones (from the unbroken rules), the propagators the table's.
+    """
+    from conftest import ETA, bar, u_spinor
+    from sm_reference import scalar_propagator, vector_propagator
+
+    rules, parts, point = standard
+    mt, md = point.mf
+    k, angle = 400.0, 0.7
+    et, ed = np.sqrt(mt ** 2 + k ** 2), np.sqrt(md ** 2 + k ** 2)
+    p1, p2 = np.array([et, 0, 0, k]), np.array([ed, 0, 0, -k])
+    p3 = np.array([ed, k * np.sin(angle), 0, k * np.cos(angle)])
+    p4 = p1 + p2 - p3
+    q = p1 - p3  # from the first line into the second
+    # line 1: u(p1) -> d(p3) emits W+ (legs bar(d), u, dag(W)); line 2: d(p2) -> u(p4) absorbs it
+    first = {name: broken_vertex(rules, parts, ("bar(d)", "u", name), [-p3, p1, -q], point.v)
+             for name in ("dag(W)", "dag(Gp)")}
+    second = {name: broken_vertex(rules, parts, ("bar(u)", "d", name), [-p4, p2, q], point.v)
+              for name in ("W", "Gp")}
+
+    def summed(xi: float | None) -> float:
+        if xi is None:  # unitary gauge: -i (g - q q/m^2)/(q^2 - m^2), no Goldstone
+            w = -1j * (ETA - np.outer(q, q) / point.mw ** 2) / ((q @ ETA @ q) - point.mw ** 2)
+            g = 0.0
+        else:
+            w, g = vector_propagator(q, point.mw, xi), scalar_propagator(q, xi * point.mw ** 2)
+        total = 0.0
+        for spins in itertools.product((0, 1), repeat=4):
+            u1, u2 = u_spinor(p1, mt, spins[0]), u_spinor(p2, md, spins[1])
+            b3, b4 = bar(u_spinor(p3, md, spins[2])), bar(u_spinor(p4, mt, spins[3]))
+            j1 = np.einsum("a,abm,b->m", b3, first["dag(W)"], u1)
+            j2 = np.einsum("a,abm,b->m", b4, second["W"], u2)
+            s1 = b3 @ first["dag(Gp)"] @ u1
+            s2 = b4 @ second["Gp"] @ u2
+            amplitude = j1 @ ETA @ w @ ETA @ j2 + s1 * g * s2
+            total += abs(amplitude) ** 2
+        return total
+
+    reference = summed(None)
+    for xi in (0.0, 1.0, 5.0):
+        assert summed(xi) == pytest.approx(reference, rel=1e-9)
+    # the W alone does depend on xi: the Goldstone is what makes the sum independent
+    w_only = lambda xi: sum(abs(np.einsum("a,abm,b->m", bar(u_spinor(p3, md, s3)), first["dag(W)"], u_spinor(p1, mt, s1))
+                                @ ETA @ vector_propagator(q, point.mw, xi) @ ETA
+                                @ np.einsum("a,abm,b->m", bar(u_spinor(p4, mt, s4)), second["W"], u_spinor(p2, md, s2))) ** 2
+                            for s1, s2, s3, s4 in itertools.product((0, 1), repeat=4))  # noqa: E731
+    assert abs(w_only(0.0) - w_only(5.0)) > 1e-3 * reference
