@@ -144,3 +144,34 @@ def test_a_wide_matrix_is_listed_entry_by_entry_in_latex(sm) -> None:
     assert r"\mathrm{CKM}_{1,3} = \mathrm{s13} e^{- i \mathrm{dckm}} \\" in text
     # a narrow one stays in the table
     assert r"$\mathrm{Yu}$ & $\begin{pmatrix}" in text
+
+
+def _vertex_type(vertex) -> str:
+    fields = [leg.field for leg in vertex.legs]
+    if any(f.startswith("gh_") for f in fields):
+        return "ghost-gauge"
+    vectors = sum(f in ("G", "Wa", "B") for f in fields)
+    scalars = sum(f == "H" for f in fields)
+    fermions = len(fields) - vectors - scalars
+    if fermions:
+        return "Yukawa" if scalars else "gauge-fermion"
+    if scalars:
+        return "scalar-gauge" if vectors else "scalar self"
+    return "gauge self"
+
+
+def test_the_unbroken_vertices_by_type_against_a_hand_count(sm) -> None:
+    # counted by hand from the Lagrangian (common practice, no source):
+    # gauge self: GGG, GGGG, WWW, WWWW (B is abelian); ghosts: gh_G gh_G G, gh_Wa gh_Wa Wa;
+    # gauge-fermion: Q with G, Wa, B; uR and dR with G, B; L with Wa, B; eR with B (10);
+    # scalar-gauge: H H+ with Wa, B, Wa Wa, B B, Wa B (5); scalar self: (H+ H)^2;
+    # Yukawa: bar(L) eR H, bar(Q) dR H, bar(Q) uR dag(H) and their conjugates (6)
+    counted = {"gauge self": 4, "ghost-gauge": 2, "gauge-fermion": 10, "scalar-gauge": 5, "scalar self": 1,
+               "Yukawa": 6}
+    rules = sm.derive()
+    found: dict[str, int] = {}
+    for vertex in rules.vertices:
+        kind = _vertex_type(vertex)
+        found[kind] = found.get(kind, 0) + 1
+    assert found == counted
+    assert len(rules.vertices) == sum(counted.values()) == 28
