@@ -305,7 +305,7 @@ class _Builder(Declarations):
                 if i is None and f.representation(g) == "adjoint":
                     raise ModelMeaningError(f"the adjoint index of '{name}' must be written", node.span,
                                             f"write {name}[{', '.join((['mu'] if lorentz else []) + ['a'])}]")
-            return m.LField(name, False, idx[0] if lorentz else None, node.span, group_indices)
+            return self._weyl_part(m.LField(name, False, idx[0] if lorentz else None, node.span, group_indices))
         if name in self.strengths:
             group = self.groups_syntax[self.strengths[name]]
             if group.group == "SU":
@@ -401,6 +401,8 @@ class _Builder(Declarations):
     def _field_inside(self, arg: sx.Symbol, node: sx.Call) -> m.LField:
         """The field written inside bar() or dag(); `d[i]` there is the derivative, not a field called d."""
         inner = self._symbol(arg)
+        if isinstance(inner, m.LProduct):  # a weyl field's chiral part: the field itself is inside
+            inner = next(factor for factor in inner.factors if isinstance(factor, m.LField))
         if not isinstance(inner, m.LField):
             raise ModelMeaningError(f"'{arg.name}[...]' inside {node.function}() reads as the derivative "
                                     f"{arg.name}[...], not the field '{arg.name}'", arg.span,
@@ -428,7 +430,7 @@ class _Builder(Declarations):
                                         node.span, f"for a boson write dag({f.name})" if f.is_complex
                                         else f"'{f.name}' is real: write {f.name}")
             inner = self._field_inside(arg, node)
-            return m.LField(f.name, True, None, node.span, inner.group_indices)
+            return self._weyl_part(m.LField(f.name, True, None, node.span, inner.group_indices))
         if node.function == "dag":
             if isinstance(arg, sx.Symbol) and arg.name in self.fields:
                 f = self.fields[arg.name]
@@ -453,6 +455,20 @@ class _Builder(Declarations):
         raise ModelMeaningError(f"{node.function}() of a field has no Feynman rule", node.span,
                                 f"{node.function}() takes parameters and numbers only")
 
+    def _weyl_part(self, node: m.LField, cc: bool = False) -> m.LNode:
+        """A factor of a weyl field as the chiral part of its Majorana field X = xi + cc(xi).
+
+        For a left-handed xi: xi = PL X, bar(xi) = bar(X) PR, cc(xi) = PR X, bar(cc(xi)) = bar(X) PL
+        (X^c = X; Dreiner, Haber & Martin, arXiv:0812.1594, sec. 3, from memory); right-handed: PL <-> PR.
+        """
+        hand = self.fields[node.field].weyl
+        if hand is None:
+            return node
+        own, other = ("PL", "PR") if hand == "left" else ("PR", "PL")
+        if node.conjugate:  # a row end: the projector stands after the field
+            return m.LProduct((node, m.LDirac(own if cc else other, (), node.span)), node.span)
+        return m.LProduct((m.LDirac(other if cc else own, (), node.span), node), node.span)
+
     def _charge_conjugate(self, arg: sx.Expr, node: sx.Call, barred: bool) -> m.LField:
         """cc(psi) = C bar(psi)^T and bar(cc(psi)) = psi^T C of a fermion (a Majorana field is its own cc)."""
         written = "bar(cc(...))" if barred else "cc(...)"
@@ -466,7 +482,7 @@ class _Builder(Declarations):
                                     else f"'{f.name}' is real: write {f.name}")
         inner = self._field_inside(arg, node)
         if f.kind == "majorana":  # chi^c = chi: the factor is the field itself
-            return m.LField(f.name, barred, None, node.span, inner.group_indices)
+            return self._weyl_part(m.LField(f.name, barred, None, node.span, inner.group_indices), cc=True)
         if any(index is None for _, index in inner.group_indices):
             group = next(g for g, index in inner.group_indices if index is None)
             raise ModelMeaningError(f"cc({f.name}) needs its {group} index written out", node.span,

@@ -8,6 +8,7 @@ the language that both halves need live here too.
 
 from __future__ import annotations
 
+import dataclasses
 from fractions import Fraction
 from typing import Iterable
 
@@ -123,6 +124,8 @@ class Declarations:
     def _build_fields(self) -> None:
         group_names = {g.name for g in self.syntax.gauges}
         for f in self.syntax.fields:
+            if f.kind == "weyl" or f.hand is not None:
+                f = self._weyl_declaration(f, group_names)
             if f.kind == "ghost":
                 raise ModelMeaningError("ghost fields are made by the gauge fixing, not declared", f.span,
                                         "leave them out: each non-abelian group gets its ghost")
@@ -219,7 +222,29 @@ class Declarations:
                                             "give each index space once")
                 representations.append((index.name, m.FLAVOUR))
             self.fields[f.name] = m.Field(f.name, f.kind, is_complex, mass, tuple(charges), f.description, f.span,
-                                          tuple(representations), tuple(global_charges))
+                                          tuple(representations), tuple(global_charges), f.hand)
+
+    def _weyl_declaration(self, f: sx.FieldDecl, group_names: set[str]) -> sx.FieldDecl:
+        """A weyl field becomes the Majorana field xi + cc(xi), remembering its handedness.
+
+        Only a neutral Weyl field is its own Majorana partner (Dreiner, Haber & Martin,
+        arXiv:0812.1594, sec. 3, from memory); a charged one pairs with another into a Dirac field.
+        """
+        if f.kind != "weyl":
+            raise ModelMeaningError(f"'{f.hand}' is the handedness of a weyl field, not of a {f.kind} field", f.span,
+                                    f"declare weyl {f.name} {f.hand} ..., or write PL/PR with the {f.kind} field")
+        if f.hand is None:
+            raise ModelMeaningError(f"the weyl field '{f.name}' needs its handedness", f.span,
+                                    f"write weyl {f.name} left ... or weyl {f.name} right ...")
+        if f.reality is not None:
+            raise ModelMeaningError(f"a weyl field is taken as a Majorana field, so it cannot be {f.reality}", f.span,
+                                    f"remove '{f.reality}'")
+        charged = [c for c in f.charges if c.group in group_names and c.value != 0]
+        if charged:
+            raise ModelMeaningError(f"the weyl field '{f.name}' cannot carry a U(1) charge here", charged[0].span,
+                                    "a charged Weyl field pairs with another into a Dirac field: declare "
+                                    f"dirac {f.name} ... and write its chiral parts with PL and PR")
+        return dataclasses.replace(f, kind="majorana")
 
     def _build_groups(self) -> None:
         for g in self.syntax.gauges:

@@ -44,6 +44,7 @@ from .assemble import derive_rules
 from .derive import (canonical_legs, check_chains, make_legs, monomial_terms, species_label, species_of,
                      vertex_from)
 from .errors import DerivationError, Source, Span, VertexsmithError, format_diagnostic
+from .chain_flow import orient_majorana_chains
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, conjugate_param, expand_model
 from .invariance import find_violations, operator_dimension, show_net_charges
 from .quadratic import QuadraticForm, quadratic_form
@@ -115,14 +116,19 @@ def conjugate_monomial(model: m.Model, mono: Monomial) -> Monomial:
     return Monomial(sympy.expand(coefficient), tuple(atoms), mono.origin)
 
 
+def _conjugate_in_flow(model: m.Model, mono: Monomial) -> Monomial:
+    """The conjugate monomial read in the fermion flow the expansion chose, so that it lands on the original's
+    legs: (bar(A) G B)^dagger = bar(B) G' A between two Majorana fields is turned back to bar(A) ... B. A chain
+    of one Majorana field with itself already holds both readings, and is left as it is."""
+    conjugate = conjugate_monomial(model, mono)
+    oriented = orient_majorana_chains(model, conjugate)
+    return oriented[0] if len(oriented) == 1 else conjugate
+
+
 # ------------------------------------------------------------------ helpers
 
 def _key(model: m.Model, mono: Monomial) -> Key:
     return tuple(sorted(species_of(model, a) for a in mono.fields))
-
-
-def _conjugate_key(model: m.Model, key: Key) -> Key:
-    return tuple(sorted((name, (not c) if model.fields[name].two_ended else c) for name, c in key))
 
 
 def _show(expr: sympy.Expr) -> str:
@@ -426,7 +432,7 @@ class _Checker:
         point = _NumericPoint(self.model)
         done: set[Key] = set()
         for key in sorted(groups):
-            partner = _conjugate_key(self.model, key)
+            partner = _key(self.model, _conjugate_in_flow(self.model, groups[key][0]))
             if key in done or partner in done:
                 continue
             done.add(key)
@@ -448,13 +454,13 @@ class _Checker:
     def hermitian(self, point: _NumericPoint, key: Key, originals: list[Monomial], partners: list[Monomial]) -> bool:
         """Whether sum(originals) = sum(partners)^dagger, as vertex functions on the legs `key`."""
         a, sa = point.vertex(key, originals)
-        b, sb = point.vertex(key, [conjugate_monomial(self.model, mono) for mono in partners])
+        b, sb = point.vertex(key, [_conjugate_in_flow(self.model, mono) for mono in partners])
         return _close(a, b, sa + sb)
 
     def report_line(self, point: _NumericPoint, key: Key, mine: list[Monomial], theirs: list[Monomial],
                     span: Span) -> None:
         a, sa = point.vertex(key, mine)
-        b, sb = point.vertex(key, [conjugate_monomial(self.model, mono) for mono in theirs])
+        b, sb = point.vertex(key, [_conjugate_in_flow(self.model, mono) for mono in theirs])
         if _close(a, b, sa + sb):
             return
         if _close(a, -b, sa + sb) and not _close(a, 0 * a, sa):

@@ -31,6 +31,13 @@ CHARGE_CONJUGATE_TEXT = (
     "the vertex G with v (or u) of leg j in place of ubar^T (or vbar^T), since v = C ubar^T"
 )
 
+# stated wherever a model has weyl fields (the two-component input)
+WEYL_TEXT = (
+    "a weyl field xi is kept as the Majorana field X = xi + cc(xi) (four-component, X^c = X), its legs those of X: "
+    "for left-handed xi, xi = PL X, bar(xi) = bar(X) PR, cc(xi) = PR X, bar(cc(xi)) = bar(X) PL; for right-handed "
+    "xi PL and PR swap (Dreiner, Haber & Martin, arXiv:0812.1594)"
+)
+
 # the sign each Dirac matrix of the model language takes under C M^T C^-1
 REVERSAL_SIGN = {"gamma": -1, "sigma": -1, "gamma5": 1, "PL": 1, "PR": 1}
 
@@ -53,4 +60,4 @@ def charge_conjugation_matrix():  # noqa: ANN201 - a numpy array, imported lazil
     return 1j * GAMMA[2] @ GAMMA[0]
 
 
-__all__ = ["CHARGE_CONJUGATE_TEXT", "FERMION_FLOW_TEXT", "REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]
+__all__ = ["CHARGE_CONJUGATE_TEXT", "FERMION_FLOW_TEXT", "WEYL_TEXT", "REVERSAL_SIGN", "charge_conjugation_matrix", "reversed_chain"]

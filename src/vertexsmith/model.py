@@ -67,6 +67,9 @@ class Field:
     # (group, fundamental|antifundamental|adjoint), then (index space, "flavour") for each space it carries
     representations: tuple[tuple[str, str], ...] = ()
     global_charges: tuple[tuple[str, Fraction], ...] = ()  # (global symmetry, charge; mod N for Z(N))
+    # a two-component (Weyl) field as written: "left" or "right"; it is kept as the Majorana field
+    # xi + cc(xi), and its factors are the chiral parts of that field (see build.py, _weyl_part)
+    weyl: str | None = None
 
     def representation(self, group: str) -> str | None:
         return dict(self.representations).get(group)

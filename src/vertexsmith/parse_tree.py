@@ -185,6 +185,9 @@ class ToSyntax(_Operators):
     def over_attr(self, meta: Any, children: list[Token]) -> tuple[str, Any, Span]:
         return ("over", sx.Index(str(children[0]), _token_span(children[0])), _span(meta))
 
+    def hand_attr(self, meta: Any, children: list[Token]) -> tuple[str, Any, Span]:
+        return ("hand", str(children[0]), _span(meta))
+
     def reality_attr(self, meta: Any, children: list[Token]) -> tuple[str, Any, Span]:
         return ("reality", str(children[0]), _span(meta))
 
@@ -218,6 +221,7 @@ class ToSyntax(_Operators):
         reps: list[sx.RepAttr] = []
         spaces: list[sx.Index] = []
         description = ""
+        hand: str | None = None
         for child in children[2:]:
             if isinstance(child, Token):
                 description = _string(child)
@@ -231,10 +235,12 @@ class ToSyntax(_Operators):
                 charges.append(value)
             elif key == "over":
                 spaces.append(value)
+            elif key == "hand":
+                hand = value
             else:
                 reps.append(value)
         return sx.FieldDecl(kind, name, reality, mass, tuple(charges), tuple(reps), description,
-                            _span(meta), mass_span, tuple(spaces))
+                            _span(meta), mass_span, tuple(spaces), hand)
 
     def boson_attr(self, meta: Any, c: list[Token]) -> tuple[str, str, Span]:
         return ("boson", str(c[0]), _token_span(c[0]))

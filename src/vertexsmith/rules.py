@@ -19,7 +19,7 @@ from .codegen import P2, compile_function, helper_namespace, vertex_function_sou
 from .conventions import MIXING_TEXT
 from .errors import UNKNOWN_SPAN, DerivationError, Span, UsageError, did_you_mean
 from .evaluation_inputs import ParameterValues, momentum_batch, values_for
-from .fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT
+from .fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT, WEYL_TEXT
 from .index_names import group_index_name, qualify_group_indices
 from .propagator import MU, NU, P, Propagator  # noqa: F401 - P, MU, NU: the propagator symbols, read from here too
 from .limits import TENSOR_ELEMENTS, check_budget, check_finite, tensor_elements
@@ -351,6 +351,8 @@ class Rules:
         mixing = f"; {MIXING_TEXT}" if any(p.partner is not None for p in self.propagators) else ""
         if self.uses_charge_conjugation:
             flow += f"; {CHARGE_CONJUGATE_TEXT}"
+        if any(f.weyl for f in self.model.fields.values()):
+            flow += f"; {WEYL_TEXT}"
         return f"{CONVENTIONS_TEXT}{flow}{mixing}; {covariant}; epsilon^{{0123}} = {c.eps0123:+d}; {gauge}"
 
     def vertex(self, *labels: str) -> Vertex:

@@ -163,6 +163,7 @@ class FieldDecl:
     span: Span = field(compare=False)
     mass_span: Span | None = field(default=None, compare=False)
     spaces: tuple[Index, ...] = ()  # the index spaces the field carries ("over gen")
+    hand: str | None = None  # left or right, for a weyl field
 
 
 @dataclass(frozen=True)

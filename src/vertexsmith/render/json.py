@@ -27,7 +27,7 @@ from typing import TYPE_CHECKING, Any
 import sympy
 
 from ..conventions import MIXING_TEXT
-from ..fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT
+from ..fermion_flow import CHARGE_CONJUGATE_TEXT, FERMION_FLOW_TEXT, WEYL_TEXT
 from ..symbolic import factor_text, to_latex
 
 if TYPE_CHECKING:
@@ -71,7 +71,8 @@ def conventions_to_dict(rules: "Rules") -> dict[str, Any]:
         "fermion_legs": "bar leg first; the factor is the Dirac matrix Gamma_(alpha beta) between bar(psi) "
                         "(index alpha) and psi (index beta); Grassmann sign from ordering the fields as "
                         "the legs list them" + (f"; {FERMION_FLOW_TEXT}" if majorana else "")
-                        + (f"; {CHARGE_CONJUGATE_TEXT}" if rules.uses_charge_conjugation else ""),
+                        + (f"; {CHARGE_CONJUGATE_TEXT}" if rules.uses_charge_conjugation else "")
+                        + (f"; {WEYL_TEXT}" if any(f.weyl for f in rules.model.fields.values()) else ""),
         "covariant_derivative": {"sign": c.covariant_sign,
                                  "form": f"D_mu = d_mu {sign} i g Q A_mu (U(1) charge Q), "
                                          f"D_mu = d_mu {sign} i g T^a A^a_mu (SU(N))"},
