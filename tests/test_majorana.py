@@ -207,3 +207,68 @@ def test_a_majorana_term_without_its_half_is_reported(line: str, message: str, h
     found = [d for d in vs.load_model(text=text, name="m.vsm").check() if d.message == message]
     assert len(found) == 1
     assert (found[0].span.line, found[0].span.column, found[0].severity, found[0].hint) == (35, 3, "warning", hint)
+
+
+# ---------------------------------------------------------------- a Dirac fermion as two Majorana fermions
+
+TWO_MAJORANA = """\
+theory two "a Dirac fermion written as two degenerate Majorana fermions"
+parameters
+  mass m = 2.0
+  mass mA = 3.0
+  mass ms = 5.0
+  coupling g = 0.4
+  coupling ga = 0.25
+  coupling y = 0.3
+fields
+  FERMIONS
+  vector A mass mA
+  scalar s mass ms
+define
+  PSI
+lagrangian
+  psib (I gamma[mu] d[mu] - m) psi
+  -1/4 (d[mu] A[nu] - d[nu] A[mu]) (d[mu] A[nu] - d[nu] A[mu]) + 1/2 mA^2 A[mu] A[mu]
+  1/2 d[mu] s d[mu] s - 1/2 ms^2 s^2
+  g A[mu] psib gamma[mu] psi + ga A[mu] psib gamma[mu] gamma5 psi
+  - y s psib psi
+"""
+
+
+def test_a_dirac_fermion_written_as_two_majorana_fermions_gives_the_dirac_rules(dirac, rng) -> None:
+    # psi = (chi1 + i chi2)/sqrt(2) with degenerate Majorana chi1, chi2 (common practice, no source): the
+    # engine expands the Dirac Lagrangian into Majorana vertices; with a = (1, i), b = (1, -i) the Dirac
+    # vertex is 1/2 sum a_j b_k V(bar(chi_j), chi_k), and the fermion-number-violating combination
+    # 1/2 sum a_j a_k V(bar(chi_j), chi_k) vanishes; V(bar(chi2), chi1) = C V(bar(chi1), chi2)^T C^-1
+    # (Denner et al. eq. 2.4, from memory)
+    split = vs.load_model(text=TWO_MAJORANA.replace("FERMIONS", "majorana chi1 mass m\n  majorana chi2 mass m")
+                          .replace("PSI", "psi = (chi1 + I chi2)/sqrt(2)\n  psib = (bar(chi1) - I bar(chi2))/sqrt(2)"),
+                          name="two.vsm")
+    assert not [d for d in split.check() if d.severity != "note"]
+    whole = vs.load_model(text=TWO_MAJORANA.replace("FERMIONS", "dirac psi mass m").replace("define\n  PSI\n", "")
+                          .replace("psib", "bar(psi)"), name="one.vsm").derive(gauge="feynman")
+    rules = split.derive(gauge="feynman")
+    c = _c_matrix(dirac)
+    a, b = (1, 1j), (1, -1j)
+    for boson in ("A", "s"):
+        momenta = rng.normal(size=(3, 4))
+        swapped = momenta[[1, 0, 2]]
+
+        def v(j: int, k: int) -> np.ndarray:
+            found = [x for x in rules.vertices if x.labels == (f"bar(chi{j})", f"chi{k}", boson)]
+            if found:
+                return found[0].evaluate(momenta)
+            reverse = [x for x in rules.vertices if x.labels == (f"bar(chi{k})", f"chi{j}", boson)]
+            if not reverse:
+                return np.zeros_like(whole.vertex("bar(psi)", "psi", boson).evaluate(momenta))
+            other = reverse[0].evaluate(swapped)
+            # the spinor axes are the first two; a vector leg's Lorentz axis stays last
+            return np.einsum("ab,bc...,cd->ad...", c, np.swapaxes(other, 0, 1), np.linalg.inv(c))
+
+        dirac_vertex = sum(a[j] * b[k] * v(j + 1, k + 1) for j in range(2) for k in range(2)) / 2
+        assert np.allclose(dirac_vertex, whole.vertex("bar(psi)", "psi", boson).evaluate(momenta)), boson
+        violating = sum(a[j] * a[k] * v(j + 1, k + 1) for j in range(2) for k in range(2)) / 2
+        assert np.allclose(violating, 0), boson
+    p = rng.normal(size=4)
+    average = (rules.propagator("chi1").evaluate(p) + rules.propagator("chi2").evaluate(p)) / 2
+    assert np.allclose(average, whole.propagator("psi").evaluate(p))
