@@ -60,7 +60,7 @@ def test_vertices_are_the_rotated_yukawa_matrix(seesaw: vs.Model, factorised, di
         y = couplings[i - 1, j - 1]
         got = rules.vertex(f"bar(n{i})", f"n{j}", "h").evaluate(np.zeros((3, 4)))
         assert np.allclose(got, -1j * (y * dirac.PL + np.conj(y) * dirac.PR), rtol=1e-12, atol=1e-15), (i, j)
-    assert [p.field_kind for p in rules.propagators] == ["majorana", "majorana", "scalar"]
+    assert [p.field_kind for p in rules.propagators] == ["majorana", "majorana", "scalar", "dirac"]
     assert not [d for d in seesaw.check() if d.severity != "note"]
 
 

@@ -118,3 +118,21 @@ def test_a_chain_between_two_majorana_fields_needs_its_conjugate() -> None:
     found = [(d.severity, d.span.line, d.message) for d in vs.load_model(text=broken, name="m.vsm").check()
              if d.severity == "error"]
     assert found == [("error", 20, "term has no hermitian conjugate in the Lagrangian")]
+
+
+@pytest.mark.parametrize("line, hint", [
+    ("  - 1/2 MN bar(nR) nR + h.c.\n",
+     "a Majorana mass pairs a weyl field with its charge conjugate: write - 1/2 M bar(cc(nR)) nR + h.c."),
+    ("  I bar(cc(nR)) gamma[mu] d[mu] nR\n", "the kinetic term of a weyl field is I bar(nR) gamma[mu] d[mu] nR"),
+    ("  - h s bar(nR) PR nu + h.c.\n",
+     "with an even number of gamma matrices a chain joins weyl fields of opposite handedness, with an odd "
+     "number of the same; or put cc() on one end"),
+], ids=["mass-without-cc", "kinetic-with-cc", "same-handedness-scalar"])
+def test_a_weyl_chain_with_the_wrong_conjugation_is_reported(line: str, hint: str) -> None:
+    # bar(xi) xi of one weyl field is bar(X) PL PR X = 0 (right-handed xi: bar(xi) = bar(X) PL, xi = PR X), and
+    # likewise the kinetic term through cc(); bar(nR) nu of a right- and a left-handed field needs an even
+    # number of gammas (PL Gamma PL != 0) -- with PR in between it vanishes (common practice, no source)
+    text = WEYL.replace("  - h s bar(nR) nu + h.c.\n", line)
+    found = [d for d in vs.load_model(text=text, name="w.vsm").check() if d.severity == "error"]
+    assert [(d.span.line, d.span.column, d.hint) for d in found] == [(21, 3, hint)]
+    assert found[0].message.endswith("is zero: its chiral projectors do not match")

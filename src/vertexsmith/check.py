@@ -244,6 +244,7 @@ class _Checker:
                 self.add_error(error)
             else:
                 good.append(mono)
+        self.check_weyl_chains(good)
         step = progress.stage("checking the model", total=3)  # a bar on a terminal
         self.check_charges(good)
         # a term whose index lines cannot be contracted is reported once, here, and not derived below
@@ -482,6 +483,46 @@ class _Checker:
         else:
             self.check_silent_lines(monomials, {line for v in rules.vertices for line in v.origins})
 
+    def check_weyl_chains(self, monomials: list[Monomial]) -> None:
+        """A chain between weyl fields whose chiral projectors do not match is zero: say so at its line.
+
+        bar(xi) xi of one weyl field (a mass written without cc()) or bar(cc(xi)) gamma xi (a kinetic term
+        with it) vanishes identically: PL Gamma PR = 0 for an even number of gamma matrices, PL Gamma PL = 0
+        for an odd one (common practice, no source). The projectors are the ones build put at the ends.
+        """
+        reported: set[tuple] = set()
+        for mono in monomials:
+            atoms = mono.atoms
+            ends = [k for k, a in enumerate(atoms) if isinstance(a, FieldAtom) and self.model.fields[a.field].is_fermion]
+            for row, column in zip(ends[::2], ends[1::2]):
+                a, b = atoms[row], atoms[column]
+                assert isinstance(a, FieldAtom) and isinstance(b, FieldAtom)
+                if not (self.model.fields[a.field].weyl and self.model.fields[b.field].weyl):
+                    continue
+                inner = [x for x in atoms[row + 1:column] if isinstance(x, DiracAtom)]
+                # carry the row end's projector along the chain: a gamma turns it, another projector must match
+                projector, flips, zero = inner[0].kind, 0, False
+                for x in inner[1:]:
+                    if x.kind == "gamma":
+                        projector, flips = {"PL": "PR", "PR": "PL"}[projector], flips + 1
+                    elif x.kind in ("PL", "PR") and x.kind != projector:
+                        zero = True
+                flips %= 2
+                if not zero or mono.origin.place() in reported:
+                    continue
+                reported.add(mono.origin.place())
+                name = b.field
+                if a.field == name and not flips:
+                    hint = (f"a Majorana mass pairs a weyl field with its charge conjugate: write "
+                            f"- 1/2 M bar(cc({name})) {name} + h.c.")
+                elif a.field == name:
+                    hint = f"the kinetic term of a weyl field is I bar({name}) gamma[mu] d[mu] {name}"
+                else:
+                    hint = ("with an even number of gamma matrices a chain joins weyl fields of opposite "
+                            "handedness, with an odd number of the same; or put cc() on one end")
+                self.add("error", f"this chain of the weyl fields '{a.field}' and '{name}' is zero: its chiral "
+                         "projectors do not match", mono.origin, hint)
+
     def check_silent_lines(self, monomials: list[Monomial], lines_with_vertices: set[int]) -> None:
         """Warn at a line of interaction terms that gives no vertex: its terms cancel identically (a
         Majorana vector current, alt against a symmetric product), which is rarely what was meant.
@@ -511,6 +552,8 @@ def _kinetic_text(model: m.Model, f: m.Field) -> str:
     """The canonical kinetic term of a field, in the model language."""
     n = f.name
     d = "D" if f.charges or f.representations else "d"
+    if f.weyl:  # the chiral part of its Majorana field: bar(xi) gamma xi is already half of it
+        return f"I bar({n}) gamma[mu] d[mu] {n}"
     if f.kind == "majorana":  # self-conjugate: the conventional 1/2, as for a real scalar
         return f"1/2 bar({n}) I gamma[mu] d[mu] {n}"
     if f.is_fermion:
@@ -530,6 +573,8 @@ def _kinetic_text(model: m.Model, f: m.Field) -> str:
 def _mass_text(model: m.Model, f: m.Field) -> str:
     """The canonical mass term of a field with its declared mass, in the model language."""
     n, mass = f.name, _show(f.mass)
+    if f.weyl:  # a Majorana mass pairs the field with its charge conjugate
+        return f"- 1/2 {mass} bar(cc({n})) {n} + h.c."
     if f.kind == "majorana":
         return f"- 1/2 {mass} bar({n}) {n}"
     if f.is_fermion:
