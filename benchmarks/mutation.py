@@ -4,7 +4,8 @@ Run by hand from the repository root (never in CI: a full run takes hours on two
 
     pip install -e ".[mutation]"
     python benchmarks/mutation.py                 # mutate the scope in pyproject's [tool.mutmut]
-    python benchmarks/mutation.py --only derive   # only the modules whose path contains 'derive'
+    python benchmarks/mutation.py --only derive structures   # only these modules, resuming where it stopped
+    python benchmarks/mutation.py --only derive --again      # their survivors again, after new tests
     python benchmarks/mutation.py --report        # summarise the last run, run nothing
 
 The mutants come from mutmut (configured in pyproject.toml, [tool.mutmut]); this script runs it
@@ -89,20 +90,40 @@ def report() -> int:
     return 1 if survivors else 0
 
 
+def selected(modules: list[str], again: bool) -> list[str]:
+    """The mutant names (or patterns) to run for these modules: the ones without a result yet.
+
+    mutmut re-runs every mutant it is given by name, so a stopped run resumes by naming only the
+    mutants still pending; `again` adds the survivors, to see whether a new test kills them. Before
+    the first run no mutant exists yet, and a pattern per module lets mutmut generate them.
+    """
+    prefixes = [f"vertexsmith.{module}." for module in modules]
+    names = []
+    for module, codes in read_results().items():
+        for name, code in codes.items():
+            if name.startswith(tuple(prefixes)) and (code is None or (again and code not in (KILLED,))):
+                names.append(name)
+    if not read_results():
+        return [f"{prefix}*" for prefix in prefixes]
+    return names
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--report", action="store_true", help="only summarise the last run")
-    parser.add_argument("--only", help="run only the mutants whose module path contains this text")
+    parser.add_argument("--only", nargs="+", metavar="MODULE",
+                        help="run only these modules' mutants (derive, structures, render.latex ...)")
+    parser.add_argument("--again", action="store_true",
+                        help="with --only: run the survivors and unfinished mutants again (after a new test)")
     parser.add_argument("--children", type=int, default=1, help="parallel test processes (default 1)")
     args = parser.parse_args(argv)
     if not args.report:
         command = ["mutmut", "run", "--max-children", str(args.children)]
         if args.only:
-            names = [name for module, codes in read_results().items() if args.only in module for name in codes]
-            if not names:
-                print("no mutants generated yet for that module: run once without --only", file=sys.stderr)
-                return 2
-            command += names
+            command += selected(args.only, args.again)
+            if len(command) == 4:
+                print("every mutant of those modules has a result already (use --again)", file=sys.stderr)
+                return report()
         # low priority: the machine is shared, and a mutation run is a background job
         subprocess.run(command, cwd=ROOT, check=False, preexec_fn=lambda: os.nice(19))
     return report()

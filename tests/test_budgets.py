@@ -178,3 +178,31 @@ def test_a_squared_dot_product_prints_as_latex() -> None:
     text = HEAD + "  c d[mu] d[nu] phi d[mu] d[nu] phi phi^2\n"
     vertex = vs.load_model(text=text, name="d.vsm").derive().vertex("phi", "phi", "phi", "phi")
     assert r"\left(p_{1} \cdot p_{2}\right)^{2}" in vertex.latex
+
+
+# HEAD without its gauge group: the four-gluon vertex alone has more than five structures
+SCALAR = HEAD.replace("  strong SU(3) boson G strength GS coupling g\n", "").replace("  vector G\n", "").replace(
+    "  -1/4 GS[mu,nu,a] GS[mu,nu,a]\n", "").replace("  dirac psi mass m in strong fundamental\n", "").replace(
+    "  bar(psi) (I gamma[mu] D[mu] - m) psi\n", "").replace("gauge\n", "")
+
+
+def test_the_terms_per_vertex_budget_refuses_before_the_coefficients_are_simplified(monkeypatch) -> None:
+    # (c + c^2) phi^2 d[mu]phi d[mu]phi: one vertex whose structures are the six dot products p_i.p_j
+    # of four legs (common practice, no source); under a budget of five, it must stop before any
+    # coefficient is simplified, at the term's line
+    monkeypatch.setattr(limits, "TERMS_PER_VERTEX", limits.Budget("terms of one vertex", 5, "a test budget"))
+
+    def too_late(expr: sympy.Expr) -> sympy.Expr:
+        raise AssertionError("a coefficient was simplified before the budget was checked")
+
+    monkeypatch.setattr(limits, "factor_within_budget", too_late)
+    error = _error(SCALAR + "  (c + c^2) phi^2 d[mu] phi d[mu] phi\n")
+    assert (error.span.line, error.span.column) == (SCALAR.count("\n") + 1, 3)
+    assert "terms of one vertex: 6, where at most 5" in error.message
+
+
+def test_the_terms_per_vertex_budget_allows_a_vertex_at_the_limit(monkeypatch) -> None:
+    # the same vertex under a budget of exactly six derives (the limit is inclusive)
+    monkeypatch.setattr(limits, "TERMS_PER_VERTEX", limits.Budget("terms of one vertex", 6, "a test budget"))
+    rules = vs.load_model(text=SCALAR + "  (c + c^2) phi^2 d[mu] phi d[mu] phi\n", name="b.vsm").derive()
+    assert rules.vertex("phi", "phi", "phi", "phi").factor != 0

@@ -11,6 +11,7 @@ the file runs in well under 30 s.
 from __future__ import annotations
 
 import numpy as np
+import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -157,5 +158,12 @@ def test_arbitrary_text_loads_or_raises_our_error(text):
 
 
 def test_deeply_nested_brackets_are_refused_cleanly():
-    # A pathological but finite input: the parser must not blow the stack into a RecursionError.
-    _exercise(HEADER + "  g " + "(" * 3000 + "phi^3" + ")" * 3000 + "\n")
+    # A pathological but finite input: refused at the first bracket past the nesting budget (before
+    # the parser could blow the stack into a RecursionError), with the limit named and a hint.
+    line = HEADER.count("\n") + 1
+    with pytest.raises(vs.ModelSyntaxError) as info:
+        vs.load_model(text=HEADER + "  g " + "(" * 3000 + "phi^3" + ")" * 3000 + "\n", name="fuzz.vsm")
+    error = info.value
+    assert (error.span.line, error.span.column) == (line, 5 + 100)  # "  g " then brackets 1..100 are allowed
+    assert "brackets open at once: 101, where at most 100 is allowed" in error.message
+    assert error.hint and f"fuzz.vsm:{line}:105" in str(error)

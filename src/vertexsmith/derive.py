@@ -22,7 +22,7 @@ import sympy
 
 from . import limits
 from . import model as m
-from .errors import DerivationError
+from .errors import DerivationError, Span
 from .expand import DiracAtom, FieldAtom, GroupAtom, Monomial, ParamAtom, TensorAtom, is_plain_product
 from .spaces import index_dimension
 from .rules import Leg, Vertex, VertexTerm
@@ -363,11 +363,17 @@ def monomial_terms(model: m.Model, mono: Monomial, legs: tuple[Leg, ...]) -> lis
 
 # ------------------------------------------------------------------ collecting terms
 
-def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]]) -> list[tuple[sympy.Expr, Structure]]:
+def _collect(pairs: Iterable[tuple[sympy.Expr, Structure]],
+             budget_at: Span | None = None) -> list[tuple[sympy.Expr, Structure]]:
+    """Sum the coefficients of equal structures; with `budget_at`, refuse too many structures first."""
     # summands are gathered and added once: adding them one by one is quadratic in their number
     total: dict[Structure, list[sympy.Expr]] = {}
     for coefficient, structure in pairs:
         total.setdefault(structure, []).append(coefficient)
+    if budget_at is not None:
+        # before the coefficients are simplified (the costly part); cancellations can only lower the count
+        limits.check_budget(limits.TERMS_PER_VERTEX, len(total), budget_at, "this vertex",
+                            "split the vertex's terms over fewer distinct index structures")
     out = []
     for structure, summands in total.items():
         coefficient = sympy.Add(*summands)
@@ -438,15 +444,14 @@ def vertex_from(model: m.Model, species: list[Species], monomials: list[Monomial
     legs = make_legs(model, canonical_legs(model, species))
     pairs: list[tuple[sympy.Expr, Structure]] = []
     for mono in monomials:
-        # one monomial's assignments are budgeted in _assignments; here the whole vertex's
+        # one monomial's assignments are budgeted in _assignments; here the whole vertex's, counted
+        # with the monomial that adds them, so the last one is counted too
+        pairs.extend(monomial_terms(model, mono, legs))
         limits.check_budget(limits.VERTEX_ASSIGNMENTS, len(pairs), mono.origin, "this vertex",
                             "split the vertex's terms, or use fewer identical fields with indices")
-        pairs.extend(monomial_terms(model, mono, legs))
-    collected = _collect(pairs)
+    collected = _collect(pairs, budget_at=monomials[0].origin)
     if not collected:
         return None
-    limits.check_budget(limits.TERMS_PER_VERTEX, len(collected), monomials[0].origin, "this vertex",
-                        "split the vertex's terms over fewer distinct index structures")
     # momentum conservation: a term with the total momentum p1 + ... + pn in a slot vanishes
     merged = [(c, s) for c, s in _merge_momenta(collected) if not _has_total_momentum(s, len(legs))]
     if not merged:

@@ -383,7 +383,8 @@ def parse_factor(text: str, symbols: "dict[str, sympy.Symbol] | None" = None) ->
     return parse_expr(text, local_dict=local, transformations=transformations, evaluate=True)
 
 
-def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:
+# the exported module copies this function's source: a mutation run must leave it undecorated
+def _bracket_calls(tokens: list, local_dict: dict, global_dict: dict) -> list:  # pragma: no mutate block
     """Token pass: NAME[...] and (...)[...] of the output vocabulary become function calls.
 
     g[a,b] -> metric, gamma/sigma/eps[...], f_G/T_G/delta_G[...] -> group tensor of G with G as
