@@ -63,7 +63,7 @@ def write(tmp_path: Path, name: str, text: str) -> Path:
     (["rules", "qed", "--gauge", "feynman"], "Feynman gauge"),
     (["rules", "qed", "--format", "latex"], "\\documentclass"),
     (["rules", "qed", "--format", "latex", "--snippet"], "\\begin{align*}"),
-    (["rules", "qed.vsm", "--format", "json"], '"format_version": "3.0"'),
+    (["rules", "qed.vsm", "--format", "json"], '"format_version": "3.1"'),
 ], ids=["text", "gauge", "latex", "snippet", "json"])
 def test_rules_succeeds(capsys: pytest.CaptureFixture[str], argv: list[str], needle: str) -> None:
     code, out, err = run(capsys, *argv)

@@ -222,7 +222,7 @@ def test_a_total_derivative_gives_no_vertex():
 
 def test_soft_term_mixing_is_reported_once_at_its_line():
     # issue 9: the pair was reported twice, once per h.c. half
-    notes = [d for d in check_model(vs.load_model(vs.example("two_doublets"))) if "mix" in d.message]
+    notes = [d for d in check_model(vs.load_model(vs.example("two_doublets"))) if "mix at" in d.message]
     assert [(d.severity, d.span.line, d.message) for d in notes] == [
         ("note", 41, "'H1' and 'H2' mix at quadratic order (line 41): their propagators form a matrix")]
 

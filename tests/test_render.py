@@ -246,7 +246,7 @@ def test_json_validates_against_schema(name: str) -> None:
     jsonschema = pytest.importorskip("jsonschema")
     document = json.loads(render(rules_of(name), "json"))
     jsonschema.Draft202012Validator(load_schema()).validate(document)
-    assert document["format_version"] == "3.0"
+    assert document["format_version"] == "3.1"
 
 
 @pytest.mark.parametrize("name", SHIPPED)

@@ -23,8 +23,12 @@ from .rules import Rules, Vertex
 GAUGES = ("xi", "feynman", "unitary")
 
 
-def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi") -> Rules:
-    """Every vertex (three or more legs) and every propagator of a model, from its expanded monomials."""
+def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi", spectrum: bool = False) -> Rules:
+    """Every vertex (three or more legs) and every propagator of a model, from its expanded monomials.
+
+    spectrum=True adds the mass matrices of every sector with their eigenvalues (`Rules.spectrum`),
+    read from the same quadratic form the propagators invert; broken models always get them.
+    """
     if gauge not in GAUGES:
         raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
     monomials = list(monomials) + ghost_monomials(model, gauge)
@@ -53,7 +57,12 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
     step = progress.stage("deriving propagators", total=len(form.blocks()))
     propagators = propagators_from(form, gauge, skip=without_ghosts, on_block=step.advance)
     vertices.sort(key=lambda v: (len(v.legs), v.labels))
-    return Rules(model, gauge, tuple(vertices), tuple(propagators), form)
+    masses = None
+    if spectrum:
+        from .breaking.spectrum import spectrum_of  # numpy with it: rules without a spectrum do not need it
+
+        masses = spectrum_of(form)
+    return Rules(model, gauge, tuple(vertices), tuple(propagators), form, masses)
 
 
 __all__ = ["GAUGES", "derive_rules"]

@@ -257,6 +257,7 @@ class _Checker:
         if form is not None:
             self.check_mixing(form)
             self.check_quadratic(good, form)
+            self.check_spectrum(form)
         step.advance()
         self.check_hermiticity(good)
         self.check_derivation(monomials)
@@ -335,6 +336,13 @@ class _Checker:
                          "matrix", mixing.origins[0],
                          "the rules carry the propagator matrix i K^-1 over the mixed fields; rotate to mass "
                          "eigenstates for diagonal propagators")
+
+    def check_spectrum(self, form: QuadraticForm) -> None:
+        """A note where fields that mix are declared with masses that are not the eigenvalues of their block."""
+        from .breaking.spectrum import compare_masses, mass_matrices
+
+        for note in compare_masses(self.model, mass_matrices(form, symbolic=False)):
+            self.add(note.severity, note.message, note.span, note.hint)
 
     # -------------------------------------------------------------- kinetic and mass terms
     def check_quadratic(self, monomials: list[Monomial], form: QuadraticForm) -> None:

@@ -98,15 +98,16 @@ def expand(model: m.Model) -> tuple[Monomial, ...]:
         raise exc.with_source(model.source) from None
 
 
-def derive(model: m.Model, gauge: str = "xi", unroll: bool = False) -> Rules:
+def derive(model: m.Model, gauge: str = "xi", unroll: bool = False, spectrum: bool = False) -> Rules:
     """Every vertex and propagator of a model; gauge is 'xi', 'feynman' or 'unitary'.
 
     Indices of the model's own index spaces stay symbolic (one vertex with Y[i,j] in its factor);
     unroll=True writes one vertex per component instead, dropping components that vanish.
+    spectrum=True adds the mass matrices and their eigenvalues (`Rules.spectrum`).
     """
     try:
         prepared = prepare_model(model)
-        rules = derive_rules(prepared, expand_model(prepared), gauge=gauge)
+        rules = derive_rules(prepared, expand_model(prepared), gauge=gauge, spectrum=spectrum)
         return unroll_rules(rules, unroll)
     except UsageError:
         raise
@@ -125,12 +126,13 @@ def check(model: m.Model) -> list[Diagnostic]:
 class Model(m.Model):
     """A model as users hold it: the plain record of `model.Model` plus the pipeline's conveniences."""
 
-    def derive(self, gauge: str = "xi", unroll: bool = False) -> Rules:
+    def derive(self, gauge: str = "xi", unroll: bool = False, spectrum: bool = False) -> Rules:
         """Every vertex and propagator of the model; gauge is 'xi', 'feynman' or 'unitary'.
 
-        unroll=True writes indices of the model's index spaces out, one vertex per component.
+        unroll=True writes indices of the model's index spaces out, one vertex per component;
+        spectrum=True adds the mass matrices with their eigenvalues (`Rules.spectrum`).
         """
-        return derive(self, gauge, unroll)
+        return derive(self, gauge, unroll, spectrum)
 
     def check(self) -> list[Diagnostic]:
         """Every diagnostic of the model, ordered by line, column and message."""

@@ -30,6 +30,7 @@ if TYPE_CHECKING:
     import numpy as np
 
     from .model import GaugeGroup, Model
+    from .breaking.spectrum import Spectrum
     from .quadratic import QuadraticForm
 
 CONVENTIONS_TEXT = (
@@ -335,6 +336,8 @@ class Rules:
     propagators: tuple[Propagator, ...]
     # K_ij(p), the quadratic form the propagators invert (gauge fixing and ghosts included)
     quadratic: "QuadraticForm | None" = dataclasses.field(default=None, compare=False, repr=False)
+    # the mass matrices per sector with their eigenvalues (broken models, or when asked for); None otherwise
+    spectrum: "Spectrum | None" = dataclasses.field(default=None, compare=False, repr=False)
 
     @property
     def uses_charge_conjugation(self) -> bool:

@@ -40,7 +40,7 @@ def unroll_rules(rules: Rules, unroll: object = True) -> Rules:
         vertices.extend(_unroll_vertex(rules.model, vertex))
     vertices.sort(key=lambda v: (len(v.legs), tuple((_base_label(leg), leg.components) for leg in v.legs)))
     propagators = tuple(replace(p, representations=_group_part(p.representations)) for p in rules.propagators)
-    return Rules(rules.model, rules.gauge, tuple(vertices), propagators)
+    return Rules(rules.model, rules.gauge, tuple(vertices), propagators, rules.quadratic, rules.spectrum)
 
 
 def _group_part(representations: tuple[tuple[str, str, int], ...]) -> tuple[tuple[str, str, int], ...]:

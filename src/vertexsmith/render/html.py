@@ -3,7 +3,7 @@
 The page needs nothing from the network: the style sheet, the script of the filter box
 (`report.css`, `report.js` beside this file), the pictures (inline SVG) and the formulas
 (MathML) are all inside it. Sections: the model's summary (fields, gauge groups, parameters,
-conventions), the checker's findings, the propagators, and the vertices under a filter box.
+conventions), the checker's findings, the mass matrices (when the rules carry a spectrum), the propagators, and the vertices under a filter box.
 The page is also well-formed XML (void elements closed, script and style in CDATA), so any XML
 parser can read it; the same rules give the same bytes.
 
@@ -24,6 +24,7 @@ from ..symbolic import to_latex
 from .cards import SPIN, propagator_card, vertex_card
 from .json import conventions_to_dict
 from .mathml import latex_to_mathml
+from .spectrum import spectrum_html
 from .svg import line_svg
 
 if TYPE_CHECKING:
@@ -169,12 +170,14 @@ def render(rules: "Rules", *, diagnostics: Sequence[Any] | None = None, **option
         f"<title>{escape(title)}</title>",
         f"<style>/*<![CDATA[*/\n{_asset('report.css')}/*]]>*/</style></head><body>",
         f'<header class="top"><h1>{escape(title)}</h1><p>{escape(model.description)}</p></header>',
-        '<nav><a href="#summary">Summary</a><a href="#checks">Checks</a><a href="#propagators">Propagators</a>'
+        '<nav><a href="#summary">Summary</a><a href="#checks">Checks</a>'
+        + ('<a href="#spectrum">Spectrum</a>' if rules.spectrum is not None else "") + '<a href="#propagators">Propagators</a>'
         f'<a href="#vertices">Vertices ({n})</a></nav><main>',
         '<h2 id="summary">Summary</h2>',
         f"<h3>Fields</h3>{_fields_table(model)}<h3>Gauge groups</h3>{_groups_table(rules)}",
         f"<h3>Parameters</h3>{_parameters_table(model)}<h3>Conventions</h3>{_conventions(rules)}",
         f'<h2 id="checks">Checks</h2>{_diagnostics(diagnostics)}',
+        *([spectrum_html(rules.spectrum, _maths)] if rules.spectrum is not None else []),
         f'<h2 id="propagators">Propagators ({len(rules.propagators)})</h2>{_key()}',
         f'<div class="cards">{propagators or "<p>None.</p>"}</div>',
         f'<h2 id="vertices">Vertices ({n})</h2>',

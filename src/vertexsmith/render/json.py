@@ -37,7 +37,7 @@ if TYPE_CHECKING:
 # 2.0: factors as model-language text under "text" (1.x wrote sympy function names under "sympy");
 # 2.1: global symmetries; 2.2: index spaces (spaces, parameter spaces/matrix/entries, leg components)
 # 3.0: the propagators of fields that mix form a matrix (entries with partner, label, chiral)
-FORMAT_VERSION = "3.0"
+FORMAT_VERSION = "3.1"
 SCHEMA_RESOURCE = "rules.schema.json"
 
 GAUGE_TEXT = {
@@ -217,7 +217,7 @@ def _propagator(model: "Model", p: "Propagator") -> dict[str, Any]:
 
 
 def rules_to_dict(rules: "Rules") -> dict[str, Any]:
-    """The rules as plain data following `rules.schema.json` (format_version 3.0)."""
+    """The rules as plain data following `rules.schema.json` (format_version 3.1)."""
     from .. import __version__
 
     model = rules.model
@@ -235,6 +235,7 @@ def rules_to_dict(rules: "Rules") -> dict[str, Any]:
         "fields": [_field(f) for f in model.fields.values()],
         "vertices": [_vertex(v) for v in rules.vertices],
         "propagators": [_propagator(model, p) for p in rules.propagators],
+        **({"spectrum": rules.spectrum.to_dict()} if rules.spectrum is not None else {}),
     }
 
 

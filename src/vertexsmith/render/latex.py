@@ -25,6 +25,7 @@ import sympy
 
 from ..symbolic import greek_command, to_latex
 from .json import conventions_to_dict
+from .spectrum import spectrum_latex
 
 if TYPE_CHECKING:
     from ..rules import Leg, Propagator, Rules, Vertex
@@ -190,6 +191,8 @@ def _rules_body(rules: "Rules") -> list[str]:
         out.append("% no vertices: the model has no interaction terms")
     out.append("% propagators: momentum p along the particle arrow")
     out += _align([_propagator_lines(p) for p in rules.propagators])
+    if rules.spectrum is not None:
+        out += spectrum_latex(rules.spectrum)
     return out
 
 

@@ -27,6 +27,7 @@ from ..symbolic import ChargeConj, Gamma5, ProjL, ProjR
 from . import top_level_cuts
 from ._table import Block, Column, Grid, Table, lay_out, natural_width, rich_lines
 from .json import conventions_to_dict
+from .spectrum import READING, spectrum_table
 
 if TYPE_CHECKING:
     from ..model import Parameter
@@ -447,6 +448,8 @@ def _sections(rules: "Rules", width: int) -> list[Block]:
     else:
         sections.append(("Vertices", "none: the model has no interaction terms"))
     sections.append(("Propagators (momentum p along the particle arrow)", _propagator_table(rules, width)))
+    if rules.spectrum is not None:
+        sections.append((f"Mass matrices ({READING})", spectrum_table(rules.spectrum)))
     blocks: list[Block] = [_title(rules)]
     for heading, body in sections:
         blocks += ["", heading, body]
