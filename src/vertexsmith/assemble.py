@@ -7,7 +7,7 @@
 from __future__ import annotations
 
 from collections import defaultdict
-from typing import Sequence
+from typing import Any, Sequence
 
 from . import limits
 from . import model as m
@@ -23,11 +23,13 @@ from .rules import Rules, Vertex
 GAUGES = ("xi", "feynman", "unitary")
 
 
-def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi", spectrum: bool = False) -> Rules:
+def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi", spectrum: bool = False,
+                 mixings: Sequence[Any] = ()) -> Rules:
     """Every vertex (three or more legs) and every propagator of a model, from its expanded monomials.
 
     spectrum=True adds the mass matrices of every sector with their eigenvalues (`Rules.spectrum`),
-    read from the same quadratic form the propagators invert; broken models always get them.
+    read from the same quadratic form the propagators invert; broken models always get them, with the
+    rotations the breaking stage applied (`mixings`, `breaking.spectrum.MixingRecord`s).
     """
     if gauge not in GAUGES:
         raise UsageError(f"unknown gauge '{gauge}'", hint="choose xi, feynman or unitary")
@@ -61,7 +63,7 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
     if spectrum:
         from .breaking.spectrum import spectrum_of  # numpy with it: rules without a spectrum do not need it
 
-        masses = spectrum_of(form)
+        masses = spectrum_of(form, mixings)
     return Rules(model, gauge, tuple(vertices), tuple(propagators), form, masses)
 
 

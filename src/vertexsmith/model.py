@@ -313,6 +313,44 @@ class Term:
     span: Span = dataclasses.field(compare=False)
 
 
+# ------------------------------------------------------------------ rotations to mass eigenstates (issue 10)
+
+@dataclass(frozen=True)
+class Rotation:
+    """`rotate NEW from OLD by R`: NEW = R OLD, so the tool substitutes OLD = R^-1 NEW everywhere.
+
+    `new` lists (field, conjugate): (W, False), (W, True) for `(W, dag(W))`. Either `matrix` (rows of
+    exact entries) or `parameter` (a unitary matrix parameter over an index space: a flavour
+    rotation of one fermion field, `new` and `old` one field each) is given. `chirality` is "",
+    "left" or "right" (fermions: only that part rotates); `declared` is "", "orthogonal" or "unitary".
+    """
+
+    new: tuple[tuple[str, bool], ...]
+    old: tuple[str, ...]
+    matrix: tuple[tuple[sympy.Expr, ...], ...] | None
+    span: Span = dataclasses.field(compare=False)
+    parameter: str = ""
+    chirality: str = ""
+    declared: str = ""
+    matrix_span: Span | None = dataclasses.field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class Diagonalisation:
+    """`diagonalise (OLD...) into (NEW...) angle theta | numeric O`: a mass block to mass eigenstates.
+
+    With `angle` (two fields): NEW = [[cos, sin], [-sin, cos]] OLD, the angle defined by
+    tan(2 theta) = 2 M12 / (M11 - M22). With `numeric`: the mixing matrix from the model's numbers
+    becomes numeric parameters named after `numeric`.
+    """
+
+    old: tuple[str, ...]
+    new: tuple[str, ...]
+    span: Span = dataclasses.field(compare=False)
+    angle: str = ""
+    numeric: str = ""
+
+
 @dataclass(frozen=True, eq=False)
 class Model:
     """A built model as plain data: declarations, definitions, Lagrangian terms and conventions.

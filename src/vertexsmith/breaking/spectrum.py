@@ -23,7 +23,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Mapping
+from typing import Mapping, Sequence
 
 import numpy as np
 import sympy
@@ -100,11 +100,44 @@ class SpectrumNote:
 
 
 @dataclass(frozen=True)
+class MixingRecord:
+    """One rotation to mass eigenstates as the breaking stage applied it, for the outputs.
+
+    `matrix` is R with NEW = R OLD (for a numeric diagonalisation: the symbols of its numeric
+    parameters, Dirac and Majorana: the left-handed one); `before` the block's mass matrix before
+    it (diagonalise only); `relation` the relation that defines a named angle; `numeric` the
+    numbers of R and `masses` the masses found (numeric diagonalisation only).
+    """
+
+    statement: str
+    line: int
+    old: tuple[str, ...]
+    new: tuple[str, ...]
+    matrix: sympy.ImmutableMatrix
+    before: sympy.ImmutableMatrix | None
+    relation: str
+    numeric: tuple[tuple[complex, ...], ...] | None
+    masses: tuple[float, ...] | None
+
+    def to_dict(self) -> dict:
+        def rows(mat: sympy.Matrix | None) -> list[list[str]] | None:
+            return None if mat is None else [[str(mat[i, j]) for j in range(mat.cols)] for i in range(mat.rows)]
+
+        return {"statement": self.statement, "line": self.line, "old": list(self.old), "new": list(self.new),
+                "matrix": rows(self.matrix), "before": rows(self.before), "relation": self.relation,
+                "numeric": None if self.numeric is None else [[[z.real, z.imag] for z in row] for row in self.numeric],
+                "masses": None if self.masses is None else [_clean(x) for x in self.masses]}
+
+
+@dataclass(frozen=True)
 class Spectrum:
-    """Every sector's mass matrix, and what comparing them with the declared masses found."""
+    """Every sector's mass matrix, what comparing them with the declared masses found, the rotations
+    the breaking stage applied, and the pairs of fields that still mix (with the lines joining them)."""
 
     matrices: tuple[MassMatrix, ...]
     notes: tuple[SpectrumNote, ...]
+    mixings: tuple[MixingRecord, ...] = ()
+    mixed: tuple[tuple[str, str, tuple[int, ...]], ...] = ()
 
     def matrix(self, field: str) -> MassMatrix:
         """The mass matrix of the sector that holds a field."""
@@ -114,7 +147,9 @@ class Spectrum:
         raise KeyError(field)
 
     def to_dict(self) -> dict:
-        return {"sectors": [mat.to_dict() for mat in self.matrices]}
+        return {"sectors": [mat.to_dict() for mat in self.matrices],
+                "rotations": [r.to_dict() for r in self.mixings],
+                "mixed": [{"fields": [a, b], "lines": list(lines)} for a, b, lines in self.mixed]}
 
 
 # ------------------------------------------------------------------ sectors
@@ -185,17 +220,25 @@ def mass_matrices(form: QuadraticForm, symbolic: bool = True) -> tuple[MassMatri
     return tuple(out)
 
 
-def _sector_matrix(form: QuadraticForm, names: list[str], values: Mapping[sympy.Symbol, complex],
-                   symbolic: bool) -> MassMatrix:
-    model = form.model
-    first = model.fields[names[0]]
-    kind, n = first.kind, len(names)
+def read_block(form: QuadraticForm, names: Sequence[str],
+               ) -> tuple[sympy.ImmutableMatrix, sympy.ImmutableMatrix, sympy.ImmutableMatrix | None]:
+    """(M or M^2, Z or Z_L, Z_R or None) over some fields of one kind, read from K as the module says."""
+    kind, n = form.model.fields[names[0]].kind, len(names)
     parts = [[_read(form, kind, r, c) for c in names] for r in names]
     mass = sympy.ImmutableMatrix(n, n, lambda i, j: parts[i][j][0])
     if kind == "majorana":  # the form holds one order of a Majorana pair; M is symmetric
         mass = sympy.ImmutableMatrix(n, n, lambda i, j: mass[i, j] if mass[i, j] != 0 else mass[j, i])
     kin = sympy.ImmutableMatrix(n, n, lambda i, j: parts[i][j][1])
-    kin_r = sympy.ImmutableMatrix(n, n, lambda i, j: parts[i][j][2]) if first.is_fermion else None
+    kin_r = sympy.ImmutableMatrix(n, n, lambda i, j: parts[i][j][2]) if kind in ("dirac", "majorana") else None
+    return mass, kin, kin_r
+
+
+def _sector_matrix(form: QuadraticForm, names: list[str], values: Mapping[sympy.Symbol, complex],
+                   symbolic: bool) -> MassMatrix:
+    model = form.model
+    first = model.fields[names[0]]
+    kind, n = first.kind, len(names)
+    mass, kin, kin_r = read_block(form, names)
     joined = {(names[i], names[j]) for i in range(n) for j in range(n)
               if i != j and (mass[i, j] != 0 or kin[i, j] != 0 or (kin_r is not None and kin_r[i, j] != 0))}
     blocks = _blocks(names, joined)
@@ -358,11 +401,14 @@ def compare_masses(model: m.Model, matrices: tuple[MassMatrix, ...]) -> tuple[Sp
     return tuple(notes)
 
 
-def spectrum_of(form: QuadraticForm) -> Spectrum:
-    """The mass matrices of a quadratic form, and their comparison with the declared masses."""
+def spectrum_of(form: QuadraticForm, mixings: Sequence[MixingRecord] = ()) -> Spectrum:
+    """The mass matrices of a quadratic form, their comparison with the declared masses, the rotations
+    that led there (from the breaking stage) and what still mixes, pair by pair with its lines."""
     matrices = mass_matrices(form)
-    return Spectrum(matrices, compare_masses(form.model, matrices))
+    mixed = tuple((a, b, tuple(sorted({s.line for s in mixing.origins}))) for mixing in form.mixings
+                  for a, b in [mixing.fields])
+    return Spectrum(matrices, compare_masses(form.model, matrices), tuple(mixings), mixed)
 
 
-__all__ = ["MassMatrix", "Spectrum", "SpectrumNote", "bosonic_eigensystem", "compare_masses", "mass_matrices",
-           "numeric_matrix", "spectrum_of"]
+__all__ = ["MassMatrix", "MixingRecord", "Spectrum", "SpectrumNote", "bosonic_eigensystem", "compare_masses", "mass_matrices",
+           "numeric_matrix", "read_block", "spectrum_of"]

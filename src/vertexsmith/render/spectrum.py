@@ -55,6 +55,44 @@ def spectrum_table(spectrum: "Spectrum") -> Table:
                   Column("numeric")), tuple(rows), show_lines=True)
 
 
+def _mixing_rows(spectrum: "Spectrum") -> list[tuple[str, str, str, str]]:
+    rows = []
+    for r in spectrum.mixings:
+        what = f"line {r.line}: {r.statement}"
+        matrix = "NEW = R OLD, R = " + (_matrix_text(r.matrix) if r.matrix is not None else "(a matrix parameter)")
+        if r.numeric is not None:
+            matrix += " = " + "[" + "; ".join(", ".join(_complex_text(z) for z in row) for row in r.numeric) + "]"
+        before = "" if r.before is None else f"block before: {_matrix_text(r.before)}"
+        found = r.relation or ("masses: " + ", ".join(f"{x:.8g}" for x in r.masses) if r.masses else "")
+        rows.append((what, matrix, before, found))
+    return rows
+
+
+def _complex_text(z: complex) -> str:
+    if abs(z.imag) <= 1e-15 * max(1.0, abs(z)):
+        return f"{z.real:.8g}"
+    return f"({z.real:.8g} {'+' if z.imag >= 0 else '-'} {abs(z.imag):.8g} I)"
+
+
+def _mixed_text(spectrum: "Spectrum") -> str:
+    if not spectrum.mixed:
+        return "nothing: every propagator is diagonal"
+    return "; ".join(f"{a} with {b} (line{'s' if len(lines) > 1 else ''} {', '.join(map(str, lines))})"
+                     for a, b, lines in spectrum.mixed) + ": these share a propagator matrix"
+
+
+def spectrum_sections(spectrum: "Spectrum") -> list[tuple[str, "Table | str"]]:
+    """The text output's sections: rotations applied, mass matrices, what still mixes."""
+    out: list[tuple[str, Table | str]] = []
+    if spectrum.mixings:
+        out.append(("Rotations to mass eigenstates (NEW = R OLD)",
+                    Table((Column("statement"), Column("matrix"), Column("before"), Column("defines / finds")),
+                          tuple(_mixing_rows(spectrum)), show_lines=True)))
+    out.append((f"Mass matrices ({READING})", spectrum_table(spectrum)))
+    out.append(("Still mixed at quadratic order", _mixed_text(spectrum)))
+    return out
+
+
 def _matrix_latex(mat: sympy.Matrix) -> str:
     rows = [" & ".join(to_latex(mat[i, j]) for j in range(mat.cols)) for i in range(mat.rows)]
     return r"\begin{pmatrix}" + r" \\ ".join(rows) + r"\end{pmatrix}"
@@ -62,7 +100,12 @@ def _matrix_latex(mat: sympy.Matrix) -> str:
 
 def spectrum_latex(spectrum: "Spectrum") -> list[str]:
     """LaTeX lines: a comment saying how the matrices read, then one align* per sector."""
-    out = ["% mass matrices: " + READING]
+    out = []
+    for r in spectrum.mixings:
+        out.append(f"% line {r.line}: {r.statement}" + (f"; {r.relation}" if r.relation else ""))
+        if r.matrix is not None:
+            out += [r"\begin{align*}", rf"&R = {_matrix_latex(r.matrix)}", r"\end{align*}"]
+    out.append("% mass matrices: " + READING)
     for mat in spectrum.matrices:
         basis = ", ".join(to_latex(sympy.Symbol(f)) for f in mat.fields)
         sector = mat.sector.replace("_", r"\_")
@@ -78,6 +121,7 @@ def spectrum_latex(spectrum: "Spectrum") -> list[str]:
         if mat.numeric is not None:
             lines.append(r"&\text{numeric: }" + ", ".join(f"{x:.8g}" for x in mat.numeric))
         out += [r"\begin{align*}", *[line + r" \\" for line in lines[:-1]], lines[-1], r"\end{align*}"]
+    out.append("% still mixed at quadratic order: " + _mixed_text(spectrum))
     return out
 
 
@@ -92,9 +136,14 @@ def spectrum_html(spectrum: "Spectrum", maths: "callable") -> str:  # type: igno
                  escape(_numbers_text(mat.numeric, mat.missing))]
         rows.append("<tr>" + "".join(f"<td>{c}</td>" for c in cells) + "</tr>")
     head = "".join(f"<th>{h}</th>" for h in ("sector", "fields", "matrix", "eigenvalues", "numeric"))
+    rotations = "".join(f"<li>{escape(what)}: {escape(matrix)}{'; ' + escape(before) if before else ''}"
+                        f"{'; ' + escape(found) if found else ''}</li>" for what, matrix, before, found in
+                        _mixing_rows(spectrum))
     return ('<section><h2 id="spectrum">Mass matrices and spectrum</h2>'
-            f"<p>{escape(READING)}.</p><table><thead><tr>{head}</tr></thead><tbody>"
-            + "".join(rows) + "</tbody></table></section>")
+            + (f"<h3>Rotations to mass eigenstates</h3><ul>{rotations}</ul>" if rotations else "")
+            + f"<p>{escape(READING)}.</p><table><thead><tr>{head}</tr></thead><tbody>"
+            + "".join(rows) + "</tbody></table>"
+            f"<p>Still mixed at quadratic order: {escape(_mixed_text(spectrum))}.</p></section>")
 
 
-__all__ = ["READING", "spectrum_html", "spectrum_latex", "spectrum_table"]
+__all__ = ["READING", "spectrum_html", "spectrum_latex", "spectrum_sections", "spectrum_table"]

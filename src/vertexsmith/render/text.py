@@ -27,7 +27,7 @@ from ..symbolic import ChargeConj, Gamma5, ProjL, ProjR
 from . import top_level_cuts
 from ._table import Block, Column, Grid, Table, lay_out, natural_width, rich_lines
 from .json import conventions_to_dict
-from .spectrum import READING, spectrum_table
+from .spectrum import spectrum_sections
 
 if TYPE_CHECKING:
     from ..model import Parameter
@@ -449,7 +449,7 @@ def _sections(rules: "Rules", width: int) -> list[Block]:
         sections.append(("Vertices", "none: the model has no interaction terms"))
     sections.append(("Propagators (momentum p along the particle arrow)", _propagator_table(rules, width)))
     if rules.spectrum is not None:
-        sections.append((f"Mass matrices ({READING})", spectrum_table(rules.spectrum)))
+        sections += spectrum_sections(rules.spectrum)
     blocks: list[Block] = [_title(rules)]
     for heading, body in sections:
         blocks += ["", heading, body]
