@@ -167,7 +167,7 @@ def _sector_key(f: m.Field) -> tuple:
 
 def _sector_label(f: m.Field) -> str:
     reality = "" if f.is_fermion else (" (complex)" if f.is_complex else " (real)")
-    return f"{_KIND_WORDS[f.kind]}{reality}, {_charges_text(f)}"
+    return f"{_KIND_WORDS.get(f.kind, f.kind + ' fields')}{reality}, {_charges_text(f)}"
 
 
 def _read(form: QuadraticForm, kind: str, row: str, column: str) -> tuple[sympy.Expr, ...]:
