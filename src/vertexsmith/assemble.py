@@ -12,7 +12,7 @@ from typing import Any, Sequence
 from . import limits
 from . import model as m
 from . import progress
-from .derive import (Species, check_chains, gauge_fixing_monomials, ghost_monomials, has_ghosts, species_of,
+from .derive import (Species, check_chains, gauge_fixing_monomials, ghost_monomials, species_of,
                      vertex_from)
 from .errors import UsageError
 from .expand import Monomial
@@ -55,7 +55,10 @@ def derive_rules(model: m.Model, monomials: Sequence[Monomial], gauge: str = "xi
     for group in model.groups.values():
         quadratic.extend(gauge_fixing_monomials(model, group, gauge))
     form = quadratic_form(model, quadratic)
-    without_ghosts = frozenset(g.ghost for g in model.groups.values() if not has_ghosts(model, g, gauge))
+    # a ghost without a kinetic term has no propagator: an unbroken group without ghosts, or a massive
+    # boson in unitary gauge (the broken phase's own ghosts gh_<V> come with their terms)
+    without_ghosts = frozenset(name for name, f in model.fields.items()
+                               if f.kind == "ghost" and not form.entry(name, name))
     step = progress.stage("deriving propagators", total=len(form.blocks()))
     propagators = propagators_from(form, gauge, skip=without_ghosts, on_block=step.advance)
     vertices.sort(key=lambda v: (len(v.legs), v.labels))

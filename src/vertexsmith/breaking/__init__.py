@@ -1,1 +1,1 @@
-"""The broken phase: vacuum shifts, rotations to mass eigenstates and the mass spectrum (issue 10)."""
+"""The broken phase: vacuum shifts, rotations to mass eigenstates, the mass spectrum and the derived gauge fixing (issue 10)."""
