@@ -127,7 +127,8 @@ def test_the_dimension_five_operator(dirac, rng) -> None:
     for s1, i1, s2, i2, j3, j4 in np.ndindex(*expected.shape):
         for (si, ii), (sk, ik), sign in (((s1, i1), (s2, i2), 1), ((s2, i2), (s1, i1), -1)):
             # L_i on leg 1 and L_k on leg 2, or swapped (Grassmann sign); H_j and H_l on legs 3 and 4 both ways
-            expected[s1, i1, s2, i2, j3, j4] += sign * m[si, sk] * (eps[ii, j3] * eps[ik, j4] + eps[ii, j4] * eps[ik, j3])
+            both_ways = eps[ii, j3] * eps[ik, j4] + eps[ii, j4] * eps[ik, j3]
+            expected[s1, i1, s2, i2, j3, j4] += sign * m[si, sk] * both_ways
     assert np.allclose(vertex.evaluate(rng.normal(size=(4, 4))), 1j * 0.01 * expected)
     assert not any("error" == d.severity for d in vs.load_model(text=WEINBERG, name="w.vsm").check())
 

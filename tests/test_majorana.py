@@ -272,3 +272,41 @@ def test_a_dirac_fermion_written_as_two_majorana_fermions_gives_the_dirac_rules(
     p = rng.normal(size=4)
     average = (rules.propagator("chi1").evaluate(p) + rules.propagator("chi2").evaluate(p)) / 2
     assert np.allclose(average, whole.propagator("psi").evaluate(p))
+
+
+def _mode_expansion_square(dirac, momenta: tuple[np.ndarray, ...], relative: int = -1) -> float:
+    """sum over spins of |M|^2 for chi chi -> f fbar by Wick contraction of the mode expansions, no rules used.
+
+    chi = sum [a u e^{-ikx} + a^dagger v e^{ikx}] with v = C ubar^T (chi = chi^c), bar(chi) = sum [a^dagger ubar
+    + a vbar]; L = -cs dag(phi) bar(chi) PR f - cs phi bar(f) PL chi. The chi of the vertex bar(f) PL chi
+    annihilates one incoming chi (u), the bar(chi) of the other vertex the second one (vbar); f and bar(f) make
+    the outgoing pair (v, ubar). Giving chi(x) the first or the second incoming particle swaps two annihilation
+    operators: the two terms subtract (Peskin & Schroeder sec. 4.7 for the sign rule, Denner et al. for
+    Majorana spinors; from memory). Overall phases drop out of |M|^2.
+    """
+    k1, k2, p1, p2 = momenta
+    c = _c_matrix(dirac)
+    total = 0.0
+    for s1, s2, r1, r2 in np.ndindex(2, 2, 2, 2):
+        u = {1: dirac.u(k1, MCHI, s1), 2: dirac.u(k2, MCHI, s2)}
+        vbar = {n: dirac.bar(c @ dirac.bar(u[n])) for n in (1, 2)}
+        ubar_f, v_f = dirac.bar(dirac.u(p1, 0.0, r1)), dirac.v(p2, 0.0, r2)
+        terms = []
+        for a, b, k in ((1, 2, k1), (2, 1, k2)):
+            q = k - p1
+            terms.append((ubar_f @ dirac.PL @ u[a]) * (vbar[b] @ dirac.PR @ v_f) / (dirac.dot(q, q) - MPHI**2))
+        total += abs(CS**2 * (terms[0] + relative * terms[1])) ** 2
+    return total
+
+
+@pytest.mark.parametrize("sqrt_s, cos_theta, phi", [(320.0, 0.3, 0.1), (900.0, -0.4, 1.0)])
+def test_annihilation_from_the_rules_equals_the_mode_expansion(majorana_rules, dirac, sqrt_s, cos_theta, phi) -> None:
+    # two ways, same number: the fermion-flow rules of the engine (both flows) and the Wick contraction above
+    momenta = _kinematics(sqrt_s, cos_theta, phi)
+    by_hand = _mode_expansion_square(dirac, momenta)
+    for reversed_second_line in (False, True):
+        from_rules = _summed_square(majorana_rules, dirac, momenta, reversed_second_line)
+        assert from_rules == pytest.approx(by_hand, rel=1e-9)
+    assert _formula(momenta, dirac) == pytest.approx(by_hand, rel=1e-9)
+    # the relative minus sign matters: with a plus the sum is a different number
+    assert _mode_expansion_square(dirac, momenta, relative=1) != pytest.approx(by_hand, rel=1e-2)

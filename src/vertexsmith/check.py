@@ -501,7 +501,8 @@ class _Checker:
         reported: set[tuple] = set()
         for mono in monomials:
             atoms = mono.atoms
-            ends = [k for k, a in enumerate(atoms) if isinstance(a, FieldAtom) and self.model.fields[a.field].is_fermion]
+            ends = [k for k, a in enumerate(atoms)
+                    if isinstance(a, FieldAtom) and self.model.fields[a.field].is_fermion]
             for row, column in zip(ends[::2], ends[1::2]):
                 a, b = atoms[row], atoms[column]
                 assert isinstance(a, FieldAtom) and isinstance(b, FieldAtom)
